@@ -1,0 +1,1 @@
+"""Benchmark suites, the runner, grading of external plans, reports and the `stackproof` command."""

@@ -1,0 +1,1 @@
+"""Sub-commands of `stackproof`; every module here is discovered by `benchmarks.cli`."""

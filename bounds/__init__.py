@@ -1,0 +1,1 @@
+"""Lower bounds on the objective of an unstack-and-pack instance."""

@@ -1,0 +1,1 @@
+"""The problem itself: data model, formats, validation, precedence graph, plan checker, metrics."""
