@@ -11,7 +11,7 @@ from typing import Optional
 
 from .errors import InputError
 from .geometry import Placed, footprints_overlap, volumes_overlap
-from .model import AXES, Instance, all_orientations
+from .model import AXES, Instance, Plan, all_orientations
 
 
 def validate_instance(instance: Instance, file: Optional[str] = None) -> None:
@@ -141,3 +141,36 @@ def source_problems(instance: Instance) -> list[tuple[str, str]]:
         if not any(abs(q.top - p.bottom) <= tol and footprints_overlap(p, q, tol) for q in placed if q is not p):
             out.append((f"boxes[{i}].at[{instance.dim - 1}]", f"box {p.id!r} floats: its bottom {p.bottom} is neither on the floor nor on the top of a box below it"))
     return out
+
+
+def plan_problems(instance: Instance, plan: Plan) -> list[tuple[str, str]]:
+    """References of a plan that cannot be resolved against `instance` (bad input, not infeasibility).
+
+    Unknown box ids, unknown container types, container indices beyond `count`, positions and
+    orientations of the wrong dimension. Rule breaking (order, overlap, support, ...) is the
+    checker's business, not this function's.
+    """
+    out: list[tuple[str, str]] = []
+    boxes = {b.id for b in instance.boxes}
+    types = {c.id: c for c in instance.containers}
+    dim = instance.dim
+    for k, m in enumerate(plan.moves):
+        if m.box not in boxes:
+            out.append((f"moves[{k}].box", f"unknown box id {m.box!r}"))
+        ctype = types.get(m.container[0])
+        if ctype is None:
+            out.append((f"moves[{k}].container[0]", f"unknown container type {m.container[0]!r} (known: {', '.join(sorted(types))})"))
+        elif not 0 <= m.container[1] < ctype.count:
+            out.append((f"moves[{k}].container[1]", f"index {m.container[1]} out of range: {ctype.id!r} has count {ctype.count}"))
+        if len(m.at) != dim:
+            out.append((f"moves[{k}].at", f"must have {dim} numbers (dim is {dim}), got {len(m.at)}"))
+        if len(m.orientation) != dim:
+            out.append((f"moves[{k}].orientation", f"{m.orientation!r} is not a {dim}D orientation"))
+    return out
+
+
+def validate_plan(instance: Instance, plan: Plan, file: Optional[str] = None) -> None:
+    """Raise InputError when the plan refers to boxes or containers the instance does not have."""
+    problems = plan_problems(instance, plan)
+    if problems:
+        raise InputError(file, problems)

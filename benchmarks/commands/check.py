@@ -6,6 +6,7 @@ import json
 
 from instances.checker import check_plan
 from instances.io import read_instance, read_plan_or_result
+from instances.validate import validate_plan
 
 NAME = "check"
 HELP = "Check a plan (or the plan inside a result) against an instance: every rule, every move."
@@ -20,6 +21,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     instance = read_instance(args.instance)
     plan, _ = read_plan_or_result(args.plan)
+    validate_plan(instance, plan, file=args.plan)
     report = check_plan(instance, plan)
     if args.json:
         doc = {
