@@ -1,0 +1,11 @@
+"""Instance generators: random resting arrangements and planted optima (issue 5).
+
+- `random_instance(dim, boxes, seed, **params) -> Instance`
+- `planted_instance(dim, boxes, seed, **params) -> (Instance, Plan)`
+
+Same arguments, same instance: every draw comes from one numpy Generator seeded with `seed`.
+"""
+from .arrangement import random_instance
+from .classes import class_names, find_class
+
+__all__ = ["random_instance", "class_names", "find_class"]
