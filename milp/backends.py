@@ -1,0 +1,132 @@
+"""Running a PuLP model on HiGHS (through highspy) or CBC, with the numbers a result reports.
+
+Both backends get threads, seed, time limit and a zero relative gap, so `Optimal` from them
+means proved. HiGHS runs with Ctrl-C handling on: an interrupt stops the search and keeps the
+best solution found, and `Outcome.interrupted` tells the pipeline to stop.
+"""
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass
+from typing import Optional
+
+import pulp
+
+BACKENDS = ("highs", "cbc")
+
+
+@dataclass
+class Outcome:
+    """What one backend run established."""
+
+    status: str  # "optimal", "feasible", "infeasible", "unknown"
+    objective: Optional[float]
+    bound: Optional[float]  # proved lower bound on the model's objective (None if unknown)
+    nodes: Optional[int]
+    seconds: float
+    interrupted: bool = False
+
+
+def backend_version(backend: str) -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    if backend == "highs":
+        try:
+            return f"HiGHS {version('highspy')} (highspy) via PuLP {pulp.__version__}"
+        except PackageNotFoundError:  # pragma: no cover
+            return f"HiGHS via PuLP {pulp.__version__}"
+    return f"CBC (bundled with PuLP) via PuLP {pulp.__version__}"
+
+
+class _Highs(pulp.HiGHS):
+    """PuLP's HiGHS interface with Ctrl-C handling, a seed, a partial MIP start and run info."""
+
+    def __init__(self, *args, start: Optional[dict] = None, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.start = start or {}
+        self.info = None
+        self.interrupted = False
+        self.model_status = None
+
+    def callSolver(self, lp):
+        h = lp.solverModel
+        if self.start:
+            idx = [v.index for v in self.start if getattr(v, "index", None) is not None]
+            val = [float(self.start[v]) for v in self.start if getattr(v, "index", None) is not None]
+            if idx:
+                import numpy as np
+
+                h.setSolution(len(idx), np.array(idx, dtype=np.int32), np.array(val, dtype=np.float64))
+        try:
+            h.HandleKeyboardInterrupt = True
+            h.solve()
+        except KeyboardInterrupt:  # pragma: no cover - depends on timing of the signal
+            self.interrupted = True
+        self.info = h.getInfo()
+        import highspy
+
+        self.model_status = h.getModelStatus()
+        if self.model_status == highspy.HighsModelStatus.kInterrupt:
+            self.interrupted = True
+
+
+def run(lp: pulp.LpProblem, *, backend: str = "highs", time_limit: float = 60.0, threads: int = 1,
+        seed: int = 0, log: bool = False, start: Optional[dict] = None, integral: bool = False) -> Outcome:
+    """Solve `lp` (a minimisation) and report status, objective, proved bound and node count.
+
+    `integral`: the objective takes integer values only, so the bound may be rounded up.
+    """
+    t0 = time.perf_counter()
+    time_limit = max(0.05, float(time_limit))
+    if backend == "highs":
+        solver = _Highs(
+            msg=log, timeLimit=time_limit, threads=threads, gapRel=0.0, gapAbs=0.0 if not integral else 0.999,
+            random_seed=int(seed), start=start,
+        )
+    elif backend == "cbc":
+        if start:
+            for v, x in start.items():
+                v.setInitialValue(x)
+        solver = pulp.PULP_CBC_CMD(
+            msg=log, timeLimit=time_limit, threads=threads, gapRel=0.0, gapAbs=0.0 if not integral else 0.999,
+            warmStart=bool(start), options=[f"randomSeed {int(seed) + 1}", f"randomCbcSeed {int(seed) + 1}"],
+        )
+    else:
+        raise ValueError(f"unknown backend {backend!r} (choose from {', '.join(BACKENDS)})")
+    interrupted = False
+    try:
+        lp.solve(solver)
+    except KeyboardInterrupt:
+        interrupted = True
+    except pulp.PulpSolverError:
+        return Outcome("unknown", None, None, None, time.perf_counter() - t0)
+    seconds = time.perf_counter() - t0
+    has_solution = lp.sol_status in (pulp.LpSolutionOptimal, pulp.LpSolutionIntegerFeasible)
+    objective = pulp.value(lp.objective) if has_solution else None
+    if objective is None and has_solution:
+        objective = 0.0
+    bound = nodes = None
+    if backend == "highs":
+        interrupted = interrupted or solver.interrupted
+        info = solver.info
+        if info is not None:
+            nodes = int(info.mip_node_count) if info.mip_node_count >= 0 else None
+            db = info.mip_dual_bound
+            if db is not None and math.isfinite(db):
+                bound = float(db)
+    status = "unknown"
+    if lp.status == pulp.LpStatusInfeasible:
+        status = "infeasible"
+    elif has_solution:
+        proved = lp.sol_status == pulp.LpSolutionOptimal
+        if backend == "highs":
+            import highspy
+
+            proved = solver.model_status == highspy.HighsModelStatus.kOptimal
+        status = "optimal" if proved else "feasible"
+        if proved:
+            bound = objective
+    if status == "infeasible":
+        bound = math.inf
+    return Outcome(status, objective, bound, nodes, seconds, interrupted)

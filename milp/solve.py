@@ -1,0 +1,281 @@
+"""The solve pipeline: validate, preprocess, bound, greedy incumbent, MILP, extract, check, report."""
+from __future__ import annotations
+
+import math
+import os
+import tempfile
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Optional
+
+import pulp
+
+from instances.checker import check_plan
+from instances.errors import InputError
+from instances.model import Instance, Plan, Result, SolverInfo, TieBreak, relative_gap
+from instances.precedence import precedence_graph
+
+from . import backends
+from .extract import extract_plan
+from .incumbent import Incumbent, best_incumbent
+from .model import build
+from .problem import Problem, prepare, round_bound
+
+
+def validate_options(instance: Instance, time_limit: float, backend: str, threads: int, seed: int,
+                     export_model: Optional[str]) -> None:
+    """Reject options the solver cannot honour, naming the option (an InputError, exit 2 in the CLI)."""
+    problems = []
+    if not isinstance(time_limit, (int, float)) or not time_limit > 0 or not math.isfinite(time_limit):
+        problems.append(("time_limit", f"must be a positive number of seconds, got {time_limit!r}"))
+    if backend not in backends.BACKENDS:
+        problems.append(("backend", f"must be one of {', '.join(backends.BACKENDS)}, got {backend!r}"))
+    if not isinstance(threads, int) or threads < 1:
+        problems.append(("threads", f"must be a positive integer, got {threads!r}"))
+    if not isinstance(seed, int) or seed < 0:
+        problems.append(("seed", f"must be a non-negative integer, got {seed!r}"))
+    if export_model is not None and Path(export_model).suffix.lower() not in (".lp", ".mps"):
+        problems.append(("export_model", f"file name must end in .lp or .mps, got {str(export_model)!r}"))
+    if instance.objective.minimise == "bins" and any(c.height is None for c in instance.containers):
+        problems.append(("objective.minimise", "'bins' needs every container type to have a height"))
+    if problems:
+        raise InputError("<options>", problems)
+
+
+@dataclass
+class _Run:
+    """Mutable state of one solve: the best checked plan and the best proved bound so far."""
+
+    instance: Instance
+    problem: Problem
+    graph: object
+    t0: float
+    time_limit: float
+    best: Optional[Incumbent] = None
+    bound: float = 0.0
+    bounds: dict = field(default_factory=dict)
+    notes: list = field(default_factory=list)
+    nodes: int = 0
+    milp_seconds: float = 0.0
+    interrupted: bool = False
+    errors: list = field(default_factory=list)
+
+    def left(self) -> float:
+        return self.time_limit - (time.perf_counter() - self.t0)
+
+    def offer(self, plan: Plan) -> bool:
+        """Check a plan; keep it when feasible and better. A rejected plan is recorded as an error."""
+        report = check_plan(self.instance, plan, self.graph)
+        if not report.feasible:
+            self.errors.extend(f"checker rejected the model's plan: move {v.move} box {v.box}: {v.rule}: {v.detail}"
+                               for v in report.violations)
+            return False
+        cand = Incumbent(plan, report)
+        if self.best is None or cand.key < self.best.key:
+            self.best = cand
+        return True
+
+    @property
+    def upper(self) -> Optional[float]:
+        return None if self.best is None else self.best.report.objective
+
+    def closed(self) -> bool:
+        ub = self.upper
+        return ub is not None and ub <= self.bound + 1e-9 * max(1.0, abs(ub))
+
+
+def _safe_cap(p: Problem) -> float:
+    """An open top never needs to be higher than all boxes stacked (gaps between levels can be closed)."""
+    z = p.dim - 1
+    return float(sum(p.max_extent(i, z) for i in range(p.n)))
+
+
+def _lower_bounds(run: _Run) -> None:
+    """Lower bounds from `bounds` (the bounds helper's module) when available; 0 otherwise."""
+    try:
+        import bounds
+
+        best = getattr(bounds, "best", None)
+    except ImportError:  # pragma: no cover
+        best = None
+    if best is None:
+        return
+    value, named = best(run.instance)
+    run.bounds.update({k: float(v) for k, v in named.items()})
+    run.bound = max(run.bound, round_bound(float(value), run.problem.integral_objective))
+
+
+def _export(p: Problem, run: _Run, path: str) -> None:
+    """Write the main model (with the current bounds) as LP or MPS, atomically."""
+    ub = run.upper if run.upper is not None else _safe_cap(p)
+    vcap = ub if p.instance.objective.minimise != "bins" else _safe_cap(p)
+    m = build(p, vcap=max(vcap, run.bound), lower=run.bound, upper=max(ub, run.bound))
+    target = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=".model-", suffix=target.suffix, dir=target.parent or ".")
+    os.close(fd)
+    try:
+        if target.suffix.lower() == ".lp":
+            m.lp.writeLP(tmp)
+        else:
+            m.lp.writeMPS(tmp)
+        os.replace(tmp, target)
+    finally:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+
+
+def _main_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> None:
+    """Minimise the main objective below the incumbent; every solution is checked before it counts."""
+    p = run.problem
+    integral = p.integral_objective
+    kind = p.instance.objective.minimise
+    cap = _safe_cap(p)
+    if run.upper is not None:
+        upper = run.upper - 1 if integral else run.upper
+    else:
+        upper = float(len(p.slots)) if kind == "bins" else (cap if kind == "height" else cap * len(p.slots))
+    if upper < run.bound - 1e-9:
+        return
+    vcap = cap if kind == "bins" else min(cap, upper)
+    m = build(p, vcap=vcap, lower=run.bound, upper=upper)
+    out = backends.run(m.lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
+                       log=log, integral=integral)
+    run.nodes += out.nodes or 0
+    run.milp_seconds += out.seconds
+    run.interrupted = out.interrupted
+    run.notes.extend(r for r in m.restrictions if r not in run.notes)
+    if out.objective is not None and out.status in ("optimal", "feasible"):
+        run.offer(extract_plan(m))
+    if not m.exact:
+        return  # a restricted model proves nothing about the full problem
+    if out.status == "infeasible":
+        # nothing strictly better than the incumbent (or nothing at all) exists
+        run.bound = max(run.bound, run.upper if run.upper is not None else math.inf)
+    elif out.bound is not None:
+        b = out.bound if out.status != "optimal" else out.objective
+        if run.upper is not None:
+            b = min(b, run.upper)
+        run.bound = max(run.bound, round_bound(b, integral))
+        run.bounds["milp"] = float(b)
+
+
+def _tips_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> tuple[int, bool]:
+    """Fewest tipped boxes among plans with the proved main optimum (a second, lexicographic solve)."""
+    p = run.problem
+    tips = run.best.report.tips
+    if tips == 0:
+        return 0, True
+    if run.left() <= 0.05 or run.interrupted:
+        return tips, False
+    opt = run.best.report.objective
+    slack = 0.0 if p.integral_objective else max(p.instance.rules.tolerance, 1e-9 * abs(opt))
+    kind = p.instance.objective.minimise
+    vcap = _safe_cap(p) if kind == "bins" else min(_safe_cap(p), opt + slack)
+    m = build(p, vcap=vcap, lower=run.bound, upper=opt + slack, goal="tips", main_cap=opt + slack)
+    m.lp += m.tips <= tips - 1, "fewer_tips"
+    out = backends.run(m.lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
+                       log=log, integral=True)
+    run.nodes += out.nodes or 0
+    run.milp_seconds += out.seconds
+    run.interrupted = out.interrupted
+    if out.objective is not None and out.status in ("optimal", "feasible"):
+        plan = extract_plan(m)
+        report = check_plan(p.instance, plan, run.graph)
+        if report.feasible and report.objective <= opt + slack + 1e-9 and report.tips < tips:
+            run.best = Incumbent(plan, report)
+            tips = report.tips
+        elif not report.feasible:
+            run.errors.extend(f"checker rejected the tie-break plan: {v.rule}: {v.detail}" for v in report.violations)
+    proved = m.exact and out.status in ("optimal", "infeasible")
+    return tips, proved
+
+
+def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs", threads: int = 1,
+          seed: int = 0, log: bool = False, export_model: Optional[str] = None) -> Result:
+    """Solve an unstack-and-pack instance to proved optimality, or report the best plan and the gap.
+
+    Pipeline: validate options; index the instance and drop orientations that can never be used
+    (reporting a proof of infeasibility when a box has none left); lower bounds from `bounds`;
+    a greedy precedence-respecting incumbent; then a relative-position MILP (Chen, Lee & Shen
+    1995) with order potentials for the sequence, asked only for plans strictly better than the
+    incumbent (so "infeasible" proves the incumbent optimal); with `then: tips` a second,
+    lexicographic solve. Every plan is replayed by `instances.checker.check_plan`.
+
+    Result.status:
+      - "optimal": a checked plan whose objective equals the proved bound;
+      - "feasible": a checked plan, the gap still open when the time limit was hit;
+      - "infeasible": proved that no feasible plan exists (the reason is in `notes`);
+      - "unknown": no plan and no proof within the time limit;
+      - "error": the model produced a plan the checker rejects (violations in `notes`).
+
+    References: Chen, Lee & Shen (1995), An analytical model for the container loading problem,
+    EJOR 80; Martello, Monaci & Vigo (2003), An exact approach to the strip-packing problem,
+    INFORMS J. Computing 15; Côté & Iori (2018), The meet-in-the-middle principle for cutting
+    and packing problems, INFORMS J. Computing 30.
+    """
+    t0 = time.perf_counter()
+    validate_options(instance, time_limit, backend, threads, seed, export_model)
+    p = prepare(instance)
+    graph = precedence_graph(instance)
+    run = _Run(instance, p, graph, t0, float(time_limit))
+    info = lambda: SolverInfo(backend=backend, version=backends.backend_version(backend), time_limit_s=float(time_limit),
+                              seed=seed, time_s=round(run.milp_seconds, 3), nodes=run.nodes, threads=threads)
+    if instance.rules.integer_positions:
+        run.notes.append("positions restricted to integers")
+    if p.infeasible_reason:
+        run.notes.append(p.infeasible_reason)
+        return Result(instance.name, "infeasible", bound=None, notes=tuple(run.notes), solver=info(),
+                      seconds=round(time.perf_counter() - t0, 3))
+    try:
+        _lower_bounds(run)
+        budget = min(2.0, 0.05 * time_limit)
+        run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
+        if export_model:
+            _export(p, run, export_model)
+        if not run.closed() and run.left() > 0.05:
+            _main_stage(run, backend, threads, seed, log)
+    except KeyboardInterrupt:
+        run.interrupted = True
+        run.notes.append("interrupted: the best checked plan so far is reported")
+    if run.interrupted and not any(n.startswith("interrupted") for n in run.notes):
+        run.notes.append("interrupted: the best checked plan so far is reported")
+    tiebreak = None
+    seconds = lambda: round(time.perf_counter() - t0, 3)
+    if run.errors and run.best is None:
+        return Result(instance.name, "error", notes=tuple(run.notes + run.errors[:20]), solver=info(), seconds=seconds())
+    if run.best is None:
+        if math.isinf(run.bound):
+            run.notes.append("the model has no solution: no plan satisfies every rule")
+            return Result(instance.name, "infeasible", bounds=run.bounds, notes=tuple(run.notes), solver=info(),
+                          seconds=seconds())
+        return Result(instance.name, "unknown", bound=run.bound, bounds=run.bounds, notes=tuple(run.notes),
+                      solver=info(), seconds=seconds())
+    objective = run.best.report.objective
+    bound = min(run.bound, objective)
+    status = "optimal" if run.closed() else "feasible"
+    if instance.objective.then == "tips":
+        if status == "optimal":
+            try:
+                tips, proved = _tips_stage(run, backend, threads, seed, log)
+            except KeyboardInterrupt:
+                tips, proved = run.best.report.tips, False
+        else:
+            tips, proved = run.best.report.tips, False
+        tiebreak = TieBreak("tips", float(tips), proved)
+    if run.errors:
+        run.notes.extend(run.errors[:20])
+    return Result(
+        instance=instance.name,
+        status=status,
+        objective=objective,
+        bound=bound,
+        gap=relative_gap(objective, bound),
+        tiebreak=tiebreak,
+        bounds=run.bounds,
+        plan=run.best.plan,
+        checked=True,
+        solver=info(),
+        notes=tuple(run.notes),
+        seconds=seconds(),
+    )
