@@ -85,3 +85,15 @@ def test_every_subcommand_has_help():
     for module in _command_modules():
         out = run(module.NAME, "--help")
         assert out.returncode == 0 and "usage:" in out.stdout, module.NAME
+
+
+def test_check_of_a_result_confirms_its_claims(files, tmp_path):
+    result = {"format": "stackproof/result", "version": 1, "instance": "dock-7-morning", "status": "optimal",
+              "objective": 4, "bound": 4, "gap": 0.0, "plan": FORMATS_PLAN, "checked": True}
+    r = tmp_path / "result.json"
+    r.write_text(json.dumps(result))
+    out = run("check", files[0], r)
+    assert out.returncode == 1 and "claims objective 4, the plan scores 5" in out.stdout
+    result["objective"] = result["bound"] = 5
+    r.write_text(json.dumps(result))
+    assert run("check", files[0], r).returncode == 0

@@ -20,9 +20,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     instance = read_instance(args.instance)
-    plan, _ = read_plan_or_result(args.plan)
+    plan, result = read_plan_or_result(args.plan)
     validate_plan(instance, plan, file=args.plan)
     report = check_plan(instance, plan)
+    claims = claim_mismatches(result, report, instance.rules.tolerance) if result is not None else []
     if args.json:
         doc = {
             "feasible": report.feasible,
@@ -31,11 +32,26 @@ def run(args: argparse.Namespace) -> int:
             "heights": [{"container": [t, i], "height": h} for (t, i), h in sorted(report.heights.items())],
             "metrics": report.metrics,
             "violations": [vars(v) for v in report.violations],
+            "claim_mismatches": claims,
         }
         print(json.dumps(doc, indent=2))
     else:
         for v in report.violations:
             print(v)
+        for c in claims:
+            print(f"result: {c}")
         verdict = "feasible" if report.feasible else f"infeasible ({len(report.violations)} violations)"
         print(f"{verdict}; {instance.objective.minimise} = {report.objective:g}; tipped boxes = {report.tips}")
-    return 0 if report.feasible else 1
+    return 0 if report.feasible and not claims else 1
+
+
+def claim_mismatches(result, report, tol: float) -> list[str]:
+    """What a result document claims about its plan that the checker does not confirm."""
+    out = []
+    if result.objective is not None and report.objective is not None and abs(result.objective - report.objective) > tol:
+        out.append(f"claims objective {result.objective:g}, the plan scores {report.objective:g}")
+    if result.tiebreak is not None and result.tiebreak.name == "tips" and result.tiebreak.value != report.tips:
+        out.append(f"claims {result.tiebreak.value:g} tipped boxes, the plan tips {report.tips}")
+    if result.status in ("optimal", "feasible") and not report.feasible:
+        out.append(f"claims status {result.status!r} for a plan the checker rejects")
+    return out
