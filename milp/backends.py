@@ -7,6 +7,7 @@ best solution found, and `Outcome.interrupted` tells the pipeline to stop.
 from __future__ import annotations
 
 import math
+import os
 import time
 from dataclasses import dataclass
 from typing import Optional
@@ -48,6 +49,23 @@ class _Highs(pulp.HiGHS):
         self.info = None
         self.interrupted = False
         self.model_status = None
+
+    def createAndConfigureSolver(self, lp):
+        if self.msg:
+            return super().createAndConfigureSolver(lp)
+        # HiGHS prints a banner on stdout when the first instance is made; keep quiet output quiet
+        import sys
+
+        sys.stdout.flush()
+        saved = os.dup(1)
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        try:
+            os.dup2(devnull, 1)
+            super().createAndConfigureSolver(lp)
+        finally:
+            os.dup2(saved, 1)
+            os.close(saved)
+            os.close(devnull)
 
     def callSolver(self, lp):
         h = lp.solverModel

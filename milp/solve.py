@@ -115,6 +115,7 @@ def _export(p: Problem, run: _Run, path: str) -> None:
     fd, tmp = tempfile.mkstemp(prefix=".model-", suffix=target.suffix, dir=target.parent or ".")
     os.close(fd)
     try:
+        os.chmod(tmp, 0o644)
         if target.suffix.lower() == ".lp":
             m.lp.writeLP(tmp)
         else:
