@@ -1,0 +1,168 @@
+"""What every bound needs: the result record, what fits where, who can stand beside whom, rounding.
+
+All bounds here are relaxations of the geometry: a feasible plan gives a packing of every box,
+in an allowed orientation, inside a container of an allowed type, without overlaps. Nothing in
+this module is specific to one bound.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from functools import cached_property
+from typing import Optional
+
+from instances.model import FACES_OF_GRIP, Box, ContainerType, Instance, grip_needed
+from instances.precedence import precedence_graph
+
+# Slack used wherever a packing might use the tolerance: overlaps shorter than `tol` do not count,
+# so two boxes may share up to `tol` along an axis, and a box may stick out by up to `tol`.
+SLACK_FACTOR = 3.0
+# Relative slack before rounding up: a float sum like 20.000000000004 must not round up to 21.
+ROUND_EPS = 1e-9
+
+
+@dataclass(frozen=True)
+class BoundValue:
+    """One lower bound: its stable `name`, its `value` (math.inf = proved infeasible), why, and its cost."""
+
+    name: str
+    value: float
+    reason: str
+    seconds: float = 0.0
+
+
+class View:
+    """Cached facts about one instance that several bounds share (usable orientations, fits, rounding)."""
+
+    def __init__(self, instance: Instance):
+        self.instance = instance
+        self.tol = instance.rules.tolerance
+        self.slack = SLACK_FACTOR * self.tol
+
+    @cached_property
+    def grips_blocked(self) -> dict[str, frozenset[str]]:
+        """Per box, the grips (`left-right`, `front-back`) it can never use: both faces against a source wall."""
+        inst = self.instance
+        if inst.source is None or inst.rules.access == "none":
+            return {b.id: frozenset() for b in inst.boxes}
+        graph = self.graph
+        out = {}
+        for b in inst.boxes:
+            walls = graph.nodes[b.id]["wall_blocked"]
+            out[b.id] = frozenset(g for g, faces in FACES_OF_GRIP.items() if all(f in walls for f in faces))
+        return out
+
+    @cached_property
+    def graph(self):
+        """The precedence graph (computed once)."""
+        return precedence_graph(self.instance)
+
+    def orientations(self, box: Box) -> tuple[str, ...]:
+        """The orientations `box` can ever be packed in: allowed, and a tip's grip not walled in on both faces."""
+        blocked = self.grips_blocked[box.id]
+        return tuple(o for o in box.orientations if grip_needed(o) not in blocked)
+
+    def fits(self, ext: tuple[float, ...], ctype: ContainerType) -> bool:
+        """True when extents `ext` fit inside a container of type `ctype` (its height too, if closed)."""
+        for e, s in zip(ext, ctype.size):
+            if s is not None and e > s + self.slack:
+                return False
+        return True
+
+    def extents(self, box: Box, ctype: ContainerType) -> list[tuple[float, ...]]:
+        """Distinct extents of `box` over its usable orientations that fit in `ctype` (empty: it never fits)."""
+        key = (box.id, ctype.id)
+        cache = self.__dict__.setdefault("_ext", {})
+        if key not in cache:
+            seen = []
+            for o in self.orientations(box):
+                e = box.extents(o)
+                if self.fits(e, ctype) and e not in seen:
+                    seen.append(e)
+            cache[key] = seen
+        return cache[key]
+
+    def types_of(self, box: Box) -> tuple[ContainerType, ...]:
+        """Allowed container types of `box` in which it fits in some usable orientation."""
+        return tuple(k for k in self.instance.allowed_types(box) if self.extents(box, k))
+
+    def unplaceable(self) -> Optional[Box]:
+        """A box that fits no allowed container in any usable orientation (then the instance is infeasible)."""
+        return next((b for b in self.instance.boxes if not self.types_of(b)), None)
+
+    def min_height(self, box: Box, ctype: ContainerType) -> float:
+        """Smallest vertical extent of `box` over the orientations that fit `ctype` (inf if none)."""
+        return min((e[-1] for e in self.extents(box, ctype)), default=math.inf)
+
+    def forced(self, ctype: ContainerType) -> list[Box]:
+        """Boxes that can only go to containers of type `ctype`."""
+        return [b for b in self.instance.boxes if [k.id for k in self.types_of(b)] == [ctype.id]]
+
+    def single_container(self, box: Box) -> Optional[ContainerType]:
+        """The container type of `box` when exactly one container in total can take it (type count 1)."""
+        types = self.types_of(box)
+        if len(types) == 1 and types[0].count == 1:
+            return types[0]
+        return None
+
+    def can_stand_beside(self, a: Box, b: Box, ctype: ContainerType) -> bool:
+        """True when a and b, in some usable orientations fitting `ctype`, have footprints placeable disjointly.
+
+        Two axis-parallel rectangles (intervals in 2D) inside a footprint are disjoint only if
+        they are separated along some horizontal axis, so the pair fits iff for some orientations
+        and some horizontal axis their extents add up to at most the container's.
+        """
+        return self._separable(a, b, ctype, range(self.instance.dim - 1))
+
+    def can_share(self, a: Box, b: Box, ctype: ContainerType) -> bool:
+        """True when a and b can be packed together in one closed container of type `ctype` (any axis)."""
+        return self._separable(a, b, ctype, range(self.instance.dim))
+
+    def _separable(self, a: Box, b: Box, ctype: ContainerType, axes) -> bool:
+        axes = list(axes)
+        for ea in self.extents(a, ctype):
+            for eb in self.extents(b, ctype):
+                for k in axes:
+                    s = ctype.size[k]
+                    if s is None or ea[k] + eb[k] <= s + self.slack:
+                        return True
+        return False
+
+    @cached_property
+    def integral_heights(self) -> bool:
+        """True when some optimal plan has integer packed heights, so height bounds may be rounded up.
+
+        Box tops are bottoms plus sizes. With integer sizes and integer positions they are
+        integers. With loading `any` and support `none`, any packing can be pushed down box by
+        box until each rests on the floor or a box (no rule forbids it and nothing grows), after
+        which every bottom is a sum of box heights: integral too (the normal-pattern argument,
+        Herz 1972; Christofides & Whitlock 1977). Otherwise we do not round.
+        """
+        inst = self.instance
+        if not all(float(s).is_integer() for b in inst.boxes for s in b.size):
+            return False
+        rules = inst.rules
+        return rules.integer_positions or (rules.loading == "any" and rules.support.rule == "none")
+
+    def round_height(self, value: float) -> float:
+        """`value` rounded up when integral heights are implied (with a float-safe margin)."""
+        if self.integral_heights and math.isfinite(value):
+            return float(math.ceil(value - ROUND_EPS * max(1.0, abs(value))))
+        return value
+
+
+def ceil_count(value: float) -> float:
+    """Round a bound on a number of containers up (counts are integers), float-safe."""
+    if not math.isfinite(value):
+        return value
+    return float(max(0, math.ceil(value - ROUND_EPS * max(1.0, abs(value)))))
+
+
+def footprint_area(ctype: ContainerType) -> float:
+    """Area (3D) or width (2D) of the container's base."""
+    return math.prod(ctype.footprint)
+
+
+def capacity(ctype: ContainerType) -> float:
+    """Volume (area in 2D) of a closed container."""
+    return math.prod(ctype.size)  # type: ignore[arg-type]
