@@ -1,0 +1,354 @@
+"""The benchmark runner: every instance in its own process with a hard wall-clock limit.
+
+Work runs on `jobs` local processes or on an existing Dask distributed cluster; both call
+`solve_isolated`, so a result does not depend on where it ran. Each finished instance is
+verified (`benchmarks.verify`) and appended as one JSON line to the results file, flushed
+and fsynced; instances already in the file (same content hash and configuration) are
+skipped, so a killed run resumes and loses nothing.
+"""
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import os
+import signal
+import subprocess
+import sys
+import tempfile
+import time
+from concurrent.futures import ThreadPoolExecutor, as_completed
+from dataclasses import asdict, dataclass
+from pathlib import Path
+from typing import Callable, Iterator, Optional, Sequence
+
+from instances.io import instance_to_dict, plan_to_dict, result_from_dict
+from instances.model import Result
+
+from .suites import SuiteEntry, instance_hash, shuffled
+from .verify import verify
+
+REPO_ROOT = Path(__file__).resolve().parents[1]
+DEFAULT_SOLVER = "milp:solve"
+
+
+@dataclass(frozen=True)
+class RunConfig:
+    """How every instance of a run is solved (all of it goes into each record)."""
+
+    time_limit: float = 60.0
+    solver: str = DEFAULT_SOLVER
+    backend: str = "highs"
+    threads: int = 1
+    seed: int = 0
+    shuffle_seed: Optional[int] = None
+    hard_limit: Optional[float] = None  # default: time_limit + max(10 s, time_limit / 2)
+
+    @property
+    def wall_limit(self) -> float:
+        if self.hard_limit is not None:
+            return self.hard_limit
+        return self.time_limit + max(10.0, self.time_limit / 2)
+
+    @property
+    def label(self) -> str:
+        """A short name of the configuration, for comparisons across runs."""
+        text = f"{self.solver}[{self.backend}] {self.time_limit:g}s seed {self.seed}"
+        if self.threads != 1:
+            text += f" threads {self.threads}"
+        if self.shuffle_seed is not None:
+            text += f" shuffle {self.shuffle_seed}"
+        return text
+
+
+def stackproof_version() -> str:
+    """The package version if installed, else the git commit of the working tree, else 'unknown'."""
+    try:
+        from importlib.metadata import version
+
+        return version("stackproof")
+    except Exception:
+        pass
+    try:
+        out = subprocess.run(["git", "-C", str(REPO_ROOT), "rev-parse", "--short", "HEAD"], capture_output=True, text=True, timeout=5)
+        if out.returncode == 0 and out.stdout.strip():
+            return "git-" + out.stdout.strip()
+    except (OSError, subprocess.SubprocessError):
+        pass
+    return "unknown"
+
+
+# ---------------------------------------------------------------- the isolated solve
+
+
+def solve_isolated(job: dict, wall_limit: float) -> dict:
+    """Run one solve in a fresh Python process; kill its process group after `wall_limit` s.
+
+    Returns ``{"result": result document or None, "error": message or None, "seconds": wall}``.
+    Runs anywhere the project is importable (a local thread or a Dask worker).
+    """
+    start = time.monotonic()
+    with tempfile.TemporaryDirectory(prefix="stackproof-job-") as tmp:
+        job_file, out_file, err_file = (os.path.join(tmp, n) for n in ("job.json", "result.json", "stderr.txt"))
+        with open(job_file, "w", encoding="utf-8") as fh:
+            json.dump(job, fh)
+        env = dict(os.environ)
+        env["PYTHONPATH"] = os.pathsep.join([str(REPO_ROOT)] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
+        with open(err_file, "wb") as err:
+            proc = subprocess.Popen(
+                [sys.executable, "-m", "benchmarks.worker", job_file, out_file],
+                stdin=subprocess.DEVNULL,
+                stdout=err,
+                stderr=err,
+                env=env,
+                cwd=tmp,
+                start_new_session=True,
+            )
+            try:
+                code = proc.wait(timeout=wall_limit)
+                killed = False
+            except subprocess.TimeoutExpired:
+                _kill_group(proc)
+                code, killed = proc.wait(), True
+        seconds = time.monotonic() - start
+        if killed:
+            return {"result": None, "error": f"killed after the hard wall-clock limit of {wall_limit:g} s", "seconds": seconds}
+        if code == 0 and os.path.exists(out_file):
+            with open(out_file, encoding="utf-8") as fh:
+                return {"result": json.load(fh), "error": None, "seconds": seconds}
+        with open(err_file, encoding="utf-8", errors="replace") as fh:
+            tail = [line.rstrip() for line in fh.read().splitlines() if line.strip()][-1:] or ["no output"]
+        return {"result": None, "error": f"solver process exited with code {code}: {tail[0]}", "seconds": seconds}
+
+
+def _kill_group(proc: subprocess.Popen) -> None:
+    try:
+        os.killpg(proc.pid, signal.SIGKILL)
+    except (ProcessLookupError, PermissionError):
+        proc.kill()
+
+
+# ---------------------------------------------------------------- records
+
+
+def make_job(entry: SuiteEntry, config: RunConfig) -> tuple[SuiteEntry, dict]:
+    """The entry as it is run (shuffled if asked) and the job document sent to the worker."""
+    if config.shuffle_seed is not None:
+        entry = SuiteEntry(entry.set, entry.name, entry.file, shuffled(entry.instance, config.shuffle_seed))
+    job = {
+        "instance": instance_to_dict(entry.instance),
+        "solver": config.solver,
+        "time_limit": config.time_limit,
+        "backend": config.backend,
+        "threads": config.threads,
+        "seed": config.seed,
+    }
+    return entry, job
+
+
+def run_key(instance_hash_: str, config: RunConfig) -> str:
+    """What makes two records "the same run" for resuming: instance content and configuration."""
+    return f"{instance_hash_}|{config.solver}|{config.backend}|{config.time_limit:g}|{config.seed}|{config.threads}|{config.shuffle_seed}"
+
+
+def make_record(entry: SuiteEntry, config: RunConfig, outcome: dict, version: str) -> dict:
+    """One JSON line: the verified result of one instance with its full provenance."""
+    inst = entry.instance
+    h = instance_hash(inst)
+    if outcome["result"] is not None:
+        result = result_from_dict(outcome["result"])
+    else:
+        result = Result(instance=inst.name, status="error", notes=(outcome["error"],))
+    verdict = verify(inst, result)
+    known = inst.known
+    solver = result.solver
+    return {
+        "key": entry.key,
+        "set": entry.set,
+        "name": entry.name,
+        "file": str(entry.file),
+        "hash": h,
+        "run_key": run_key(h, config),
+        "config": config.label,
+        "n": len(inst.boxes),
+        "dim": inst.dim,
+        "minimise": inst.objective.minimise,
+        "status": result.status,
+        "objective": verdict.objective,
+        "claimed_objective": result.objective,
+        "bound": result.bound,
+        "gap": verdict.gap,
+        "checked": verdict.checked,
+        "tiebreak": None if result.tiebreak is None else asdict(result.tiebreak),
+        "seconds": round(outcome["seconds"], 3),
+        "solve_seconds": result.seconds,
+        "solver": config.solver,
+        "backend": config.backend,
+        "solver_version": None if solver is None else solver.version,
+        "version": version,
+        "time_limit": config.time_limit,
+        "seed": config.seed,
+        "threads": config.threads,
+        "shuffle_seed": config.shuffle_seed,
+        "date": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+        "known": None if known is None else {"optimum": known.optimum, "infeasible": known.infeasible, "source": known.source},
+        "contradictions": verdict.contradictions,
+        "problems": verdict.problems,
+        "violations": verdict.violations[:20],
+        "notes": list(result.notes),
+        "plan": None if result.plan is None else plan_to_dict(result.plan),
+    }
+
+
+def is_failure(record: dict) -> bool:
+    """A record that must fail a CI job: a contradiction or a claim without a checked plan."""
+    return bool(record.get("contradictions") or record.get("problems"))
+
+
+def is_proven(record: dict) -> bool:
+    return record.get("status") == "optimal" and bool(record.get("checked")) and not is_failure(record)
+
+
+# ---------------------------------------------------------------- the results file
+
+
+class ResultsFile:
+    """An append-only JSON-lines file; every line is flushed and fsynced before the next solve counts."""
+
+    def __init__(self, path: Optional[str | Path]):
+        self.path = None if path is None else Path(path)
+
+    def read(self) -> list[dict]:
+        """All complete records; a torn last line (a kill during a write) is dropped from the file."""
+        if self.path is None or not self.path.exists():
+            return []
+        data = self.path.read_bytes()
+        if data and not data.endswith(b"\n"):
+            cut = data.rfind(b"\n") + 1
+            with open(self.path, "r+b") as fh:
+                fh.truncate(cut)
+                fh.flush()
+                os.fsync(fh.fileno())
+            data = data[:cut]
+        out = []
+        for number, line in enumerate(data.decode("utf-8").splitlines(), 1):
+            if line.strip():
+                try:
+                    out.append(json.loads(line))
+                except json.JSONDecodeError as exc:
+                    from instances.errors import InputError
+
+                    raise InputError.one(str(self.path), f"line {number}", f"not a JSON record: {exc.msg}") from None
+        return out
+
+    def append(self, record: dict) -> None:
+        if self.path is None:
+            return
+        self.path.parent.mkdir(parents=True, exist_ok=True)
+        line = json.dumps(record, sort_keys=True, allow_nan=False, separators=(",", ":")) + "\n"
+        with open(self.path, "a", encoding="utf-8") as fh:
+            fh.write(line)
+            fh.flush()
+            os.fsync(fh.fileno())
+
+
+def read_results(path: str | Path) -> list[dict]:
+    """The records of a results file (an InputError when it is missing or damaged)."""
+    from instances.errors import InputError
+
+    if not Path(path).is_file():
+        raise InputError.one(str(path), "$", "results file not found")
+    return ResultsFile(path).read()
+
+
+# ---------------------------------------------------------------- progress
+
+
+class Progress:
+    """done / proven / elapsed on stderr: a redrawn bar on a terminal, one line per instance otherwise."""
+
+    def __init__(self, total: int, stream=None, enabled: bool = True):
+        self.total, self.done, self.proven = total, 0, 0
+        self.stream = sys.stderr if stream is None else stream
+        self.enabled = enabled
+        self.tty = enabled and hasattr(self.stream, "isatty") and self.stream.isatty()
+        self.start = time.monotonic()
+
+    def update(self, record: dict) -> None:
+        self.done += 1
+        self.proven += is_proven(record)
+        if not self.enabled:
+            return
+        elapsed = time.monotonic() - self.start
+        head = f"{self.done}/{self.total} done, {self.proven} proven, {elapsed:.0f}s elapsed"
+        for c in record["contradictions"]:
+            self._line(f"CONTRADICTION {record['key']}: {c}")
+        for p in record["problems"]:
+            self._line(f"UNCHECKED {record['key']}: {p}")
+        if self.tty:
+            width = 30
+            filled = int(width * self.done / max(1, self.total))
+            self.stream.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {head}")
+            if self.done == self.total:
+                self.stream.write("\n")
+        else:
+            obj = "-" if record["objective"] is None else f"{record['objective']:g}"
+            self.stream.write(f"[{head}] {record['key']}: {record['status']} objective {obj} ({record['seconds']:.1f}s)\n")
+        self.stream.flush()
+
+    def _line(self, text: str) -> None:
+        self.stream.write(("\r" if self.tty else "") + "!!! " + text + "\n")
+
+
+# ---------------------------------------------------------------- the run
+
+
+def _local(jobs: int) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[int, dict]]]:
+    def execute(work: list[tuple[dict, float]]) -> Iterator[tuple[int, dict]]:
+        with ThreadPoolExecutor(max_workers=max(1, jobs)) as pool:
+            futures = {pool.submit(solve_isolated, job, wall): k for k, (job, wall) in enumerate(work)}
+            for f in as_completed(futures):
+                yield futures[f], f.result()
+
+    return execute
+
+
+def _dask(address: str) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[int, dict]]]:
+    def execute(work: list[tuple[dict, float]]) -> Iterator[tuple[int, dict]]:
+        from distributed import Client
+        from distributed import as_completed as dask_completed
+
+        with Client(address, set_as_default=False) as client:
+            futures = [client.submit(solve_isolated, job, wall, pure=False) for job, wall in work]
+            index = {f.key: k for k, f in enumerate(futures)}
+            for f in dask_completed(futures):
+                yield index[f.key], f.result()
+
+    return execute
+
+
+def run_bench(
+    entries: Sequence[SuiteEntry],
+    config: RunConfig,
+    results: Optional[str | Path] = None,
+    jobs: int = 1,
+    scheduler: Optional[str] = None,
+    progress: bool = True,
+) -> list[dict]:
+    """Solve every entry not yet in `results`; return the records of all entries (old and new),
+    in suite order."""
+    store = ResultsFile(results)
+    old = {r.get("run_key"): r for r in store.read()}
+    version = stackproof_version()
+    prepared = [make_job(e, config) for e in entries]
+    keys = [run_key(instance_hash(e.instance), config) for e, _ in prepared]
+    todo = [k for k, key in enumerate(keys) if key not in old]
+    bar = Progress(len(todo), enabled=progress)
+    execute = _dask(scheduler) if scheduler else _local(jobs)
+    new: dict[int, dict] = {}
+    for k, outcome in execute([(prepared[k][1], config.wall_limit) for k in todo]):
+        entry = prepared[todo[k]][0]
+        record = make_record(entry, config, outcome, version)
+        store.append(record)
+        new[todo[k]] = record
+        bar.update(record)
+    return [new[k] if k in new else old[key] for k, key in enumerate(keys)]
