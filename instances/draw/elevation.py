@@ -14,8 +14,8 @@ from ..precedence import lift_graph
 from . import palette
 from .replay import Key, Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label, rect
-from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, flow, legend,
-                    num, source_size)
+from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, choose_scale, flow, legend,
+                    num, panel_name, panel_width, side_arrow, source_size)
 
 
 class Frame:
@@ -51,11 +51,8 @@ def scene(rp: Replay, color_by: str = "destination") -> Scene:
         for c in inst.containers:
             size, open_top = container_size(inst, rp, (c.id, 0))
             panels.append(("type", (c.id, c.count), size, open_top))
-    max_w = max(p[2][0] for p in panels)
-    max_h = max(p[2][1] for p in panels)
-    total_w = sum(p[2][0] for p in panels)
-    scale = min(420.0 / max_h, max(1100.0 / total_w, 200.0 / max_w))
-    sizes = [(max(p[2][0] * scale, 90.0), p[2][1] * scale + HEADER) for p in panels]
+    scale = choose_scale([p[2][0] for p in panels], [p[2][1] for p in panels])
+    sizes = [(panel_width(panel_name(p[0], p[1], p[3]), p[2][0] * scale), p[2][1] * scale + HEADER) for p in panels]
     corners, width, height = flow(sizes)
     frames = [Frame(x, y, scale, p[2][1]) for (x, y), p in zip(corners, panels)]
 
@@ -95,14 +92,7 @@ def _outline(frame: Frame, kind: str, key, size, open_top: bool, rp: Replay) -> 
     items += [Line((x0, y1), (x0, y0), "#444444", 2), Line((x0, y0), (x1, y0), "#444444", 2),
               Line((x1, y0), (x1, y1), "#444444", 2),
               Line((x0, y1), (x1, y1), "#444444", 1 if open_top else 2, dash="4 3" if open_top else None)]
-    if kind == "source":
-        name = "source" + (" (open top)" if open_top else "")
-    elif kind == "given":
-        name = "boxes (no source)"
-    elif kind == "type":
-        name = f"{key[0]} x{key[1]}" + (" (open top)" if open_top else "")
-    else:
-        name = container_label(key)
+    name = panel_name(kind, key, open_top)
     items.append(Text(x0, frame.y + HEADER / 2, name, 12, anchor="start", weight="bold", cls="panel-title"))
     attrs = {"class": "panel", "data-panel": "source" if kind in ("source", "given") else f"{key[0]}#{key[1]}"}
     return Group(items, attrs)
@@ -160,11 +150,9 @@ def _edges(rp: Replay, frame: Frame) -> list[Item]:
         if kind == "lift":
             continue
         bj, bi = inst.box(j), inst.box(i)
-        lo, hi = max(bj.at[1], bi.at[1]), min(bj.at[1] + bj.size[1], bi.at[1] + bi.size[1])
-        y = lo + (hi - lo) * 0.35
-        a = frame.px(bj.at[0] + bj.size[0] / 2, y)
-        b = frame.px(bi.at[0] + bi.size[0] * (0.3 if kind == "left" else 0.7), y)
-        out.append(edge_group(rp, j, i, kind, Line(a, b, palette.EDGE_SIDE, 1.4, dash="5 3", arrow="open", cls="side", halo=True)))
+        a, b = side_arrow(bj.at, bj.size, bi.at, bi.size, kind, 22.0 / frame.s)
+        line = Line(frame.px(*a), frame.px(*b), palette.EDGE_SIDE, 1.4, dash="4 2", arrow="open", cls="side", halo=True)
+        out.append(edge_group(rp, j, i, kind, line))
     return out
 
 

@@ -17,7 +17,8 @@ from . import palette
 from .replay import Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label
 from .views import (HEADER, Colours, box_attrs, box_title, colours, container_label, container_size, edge_group,
-                    flow, legend, num, source_size)
+                    choose_scale, flow, legend, num, panel_name, panel_width, side_arrow,
+                    source_size)
 
 VIEW = (1.0, -1.0, 1.0)  # towards the viewer
 R2, R6 = math.sqrt(2.0), math.sqrt(6.0)
@@ -130,10 +131,8 @@ def scene(rp: Replay, color_by: str = "destination") -> Scene:
             size, open_top = container_size(inst, rp, (c.id, 0))
             panels.append(("type", (c.id, c.count), size, open_top, []))
     extents = [panel_extent(p[2]) for p in panels]
-    max_w = max(e[0] for e in extents)
-    max_h = max(e[1] for e in extents)
-    scale = min(420.0 / max_h, max(1100.0 / sum(e[0] for e in extents), 220.0 / max_w))
-    sizes = [(max(e[0] * scale, 90.0), e[1] * scale + HEADER) for e in extents]
+    scale = choose_scale([e[0] for e in extents], [e[1] for e in extents])
+    sizes = [(panel_width(panel_name(p[0], p[1], p[3]), e[0] * scale), e[1] * scale + HEADER) for p, e in zip(panels, extents)]
     corners, width, height = flow(sizes)
     items: list[Item] = []
     overlay: list[Item] = []
@@ -165,14 +164,7 @@ def _outline(frame: Frame, kind: str, key, size: Vec3, open_top: bool) -> tuple[
     rim = [(0, 0, Z), (X, 0, Z), (X, Y, Z), (0, Y, Z)]
     for a, b in zip(rim, rim[1:] + rim[:1]):
         front.append(Line(P(a), P(b), "#888888", 1, dash=rim_dash or "2 3"))
-    if kind == "source":
-        name = "source" + (" (open top)" if open_top else "")
-    elif kind == "given":
-        name = "boxes (no source)"
-    elif kind == "type":
-        name = f"{key[0]} x{key[1]}" + (" (open top)" if open_top else "")
-    else:
-        name = container_label(key)
+    name = panel_name(kind, key, open_top)
     back.append(Text(frame.left, frame.top + HEADER / 2, name, 12, anchor="start", weight="bold", cls="panel-title"))
     panel = "source" if kind in ("source", "given") else f"{key[0]}#{key[1]}"
     return Group(back, {"class": "panel", "data-panel": panel}), Group(front, {"class": "panel-front", "data-panel": panel})
@@ -210,18 +202,18 @@ def _box(rp: Replay, col: Colours, frame: Frame, box_id: str, lo: Vec3, hi: Vec3
     s = frame.s
     dx, dy, dz = (x1 - x0) * s, (y1 - y0) * s, (z1 - z0) * s
     labels: list[Item] = []
-    tag = f"#{step.number}" if step is not None else box_id
-    size = fit_label(tag, min(dx, dy) * 0.9, min(dx, dy) * 0.45)
-    if size:
-        cx = sum(p[0] for p in top) / 4
-        cy = sum(p[1] for p in top) / 4
-        labels.append(Text(cx, cy, tag, size, palette.text_colour(palette.mix(fill, "#FFFFFF", 0.35)), weight="bold"))
     if step is not None:
-        size = fit_label(box_id, dx * 0.6, dz * 0.55)
+        tag = f"#{step.number}"
+        size = fit_label(tag, min(dx, dy) * 0.9, min(dx, dy) * 0.45)
         if size:
-            cx = sum(p[0] for p in front) / 4
-            cy = sum(p[1] for p in front) / 4
-            labels.append(Text(cx, cy, box_id, size, palette.text_colour(fill)))
+            cx = sum(p[0] for p in top) / 4
+            cy = sum(p[1] for p in top) / 4
+            labels.append(Text(cx, cy, tag, size, palette.text_colour(palette.mix(fill, "#FFFFFF", 0.35)), weight="bold"))
+    size = fit_label(box_id, dx * 0.6, dz * 0.55)
+    if size:
+        cx = sum(p[0] for p in front) / 4
+        cy = sum(p[1] for p in front) / 4
+        labels.append(Text(cx, cy, box_id, size, palette.text_colour(fill)))
     return [body, Group(labels, {**attrs, "class": "label"})]
 
 
@@ -251,8 +243,10 @@ def _edges(rp: Replay, frame: Frame) -> list[Item]:
     for j, i, kind in sorted(rp.graph.edges(data="kind")):
         if kind == "lift":
             continue
-        a, b = _centre(inst.box(j)), _centre(inst.box(i))
-        out.append(edge_group(rp, j, i, kind, Line(frame.px(a), frame.px(b), palette.EDGE_SIDE, 1.4, dash="5 3", arrow="open", cls="side", halo=True)))
+        bj, bi = inst.box(j), inst.box(i)
+        a, b = side_arrow(bj.at, bj.size, bi.at, bi.size, kind, 22.0 / frame.s)
+        line = Line(frame.px(a), frame.px(b), palette.EDGE_SIDE, 1.4, dash="4 2", arrow="open", cls="side", halo=True)
+        out.append(edge_group(rp, j, i, kind, line))
     return out
 
 

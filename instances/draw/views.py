@@ -96,6 +96,30 @@ def source_size(inst: Instance) -> tuple[tuple[float, ...], bool]:
     return tuple(float(v) for v in size), open_top  # type: ignore[arg-type]
 
 
+def panel_name(kind: str, key, open_top: bool) -> str:
+    """Title above a panel: the source, the boxes laid out, a container type, or one container."""
+    top = " (open top)" if open_top else ""
+    if kind == "source":
+        return "source" + top
+    if kind == "given":
+        return "boxes (no source)"
+    if kind == "type":
+        return f"{key[0]} x{key[1]}{top}"
+    return container_label(key)
+
+
+def choose_scale(widths: list[float], heights: list[float]) -> float:
+    """Pixels per unit for all panels: about 1100 px across in total, at most 900 px tall,
+    each panel at least 200 px wide when that fits."""
+    by_width = max(1100.0 / sum(widths), 200.0 / max(widths))
+    return min(by_width, 900.0 / max(heights))
+
+
+def panel_width(name: str, pixels: float) -> float:
+    """A panel is at least as wide as its title (0.62 em per glyph at 12 px, bold)."""
+    return max(pixels, 7.6 * len(name) + 12, 90.0)
+
+
 def flow(sizes: list[tuple[float, float]], left: float = 20.0, top: float = 20.0) -> tuple[list[tuple[float, float]], float, float]:
     """Place panels of pixel `sizes` (including headers) left to right, wrapping rows.
 
@@ -218,3 +242,28 @@ def edge_group(rp: Replay, j: str, i: str, kind: str, line: Line) -> Group:
     title = f"{j} must leave before {i}" + ("" if kind == "lift" else f" can be tipped by its {kind} face")
     attrs = {"class": "edge", "data-kind": kind, "data-from": j, "data-to": i, "data-gone": str(gone)}
     return Group([line], attrs, title)
+
+
+FACE_AXIS = {"left": (0, -1), "right": (0, +1), "front": (1, -1), "back": (1, +1)}
+
+
+def side_arrow(at_j, size_j, at_i, size_i, kind: str, reach: float) -> tuple[tuple[float, ...], tuple[float, ...]]:
+    """World end points of a short arrow from box j across face `kind` of box i.
+
+    The arrow crosses i's face at the middle of the shared patch, `reach` deep into each box;
+    an arrow towards a low face runs a little lower than one towards a high face, so two
+    boxes that block each other show two separate arrows.
+    """
+    axis, side = FACE_AXIS[kind]
+    dim = len(at_i)
+    mid = []
+    for k in range(dim):
+        lo, hi = max(at_j[k], at_i[k]), min(at_j[k] + size_j[k], at_i[k] + size_i[k])
+        frac = (0.35 if side < 0 else 0.65) if k == dim - 1 else 0.5
+        mid.append(lo + (hi - lo) * frac)
+    face = at_i[axis] if side < 0 else at_i[axis] + size_i[axis]
+    d = min(reach, 0.4 * size_j[axis], 0.4 * size_i[axis])
+    a, b = list(mid), list(mid)
+    a[axis] = face + side * d  # inside j
+    b[axis] = face - side * d  # inside i
+    return tuple(a), tuple(b)
