@@ -347,8 +347,10 @@ class Builder:
         ov = pulp.LpVariable(f"o_{i}_{j}_{ax}", lowBound=0, upBound=cap, cat="Integer" if integer else "Continuous")
         lbl = f"{i}_{j}_{ax}"
         self.lp += ov <= cap * s, f"ov_s_{lbl}"
-        self.lp += ov <= self.pos[j][ax] + self.ext(j, ax) - self.pos[i][ax], f"ov_a_{lbl}"
-        self.lp += ov <= self.pos[i][ax] + self.ext(i, ax) - self.pos[j][ax], f"ov_b_{lbl}"
+        # the two reach terms go negative for boxes apart: relax them unless j supports i
+        big = max(self.sizes[k][ax] for k in self.p.can_share(i, j))
+        self.lp += ov <= self.pos[j][ax] + self.ext(j, ax) - self.pos[i][ax] + big * (1 - s), f"ov_a_{lbl}"
+        self.lp += ov <= self.pos[i][ax] + self.ext(i, ax) - self.pos[j][ax] + big * (1 - s), f"ov_b_{lbl}"
         self.lp += ov <= self.ext(i, ax), f"ov_c_{lbl}"
         self.lp += ov <= self.ext(j, ax), f"ov_d_{lbl}"
         return ov

@@ -179,4 +179,6 @@ def prepare(instance: Instance) -> Problem:
 
 def round_bound(value: float, integral: bool, tol: float = 1e-6) -> float:
     """A lower bound on an integer-valued objective may be rounded up (minus a safety tolerance)."""
-    return float(math.ceil(value - tol)) if integral else value
+    if not integral or math.isinf(value):
+        return value
+    return float(math.ceil(value - tol))

@@ -101,7 +101,11 @@ def _lower_bounds(run: _Run) -> None:
         best = None
     if best is None:
         return
-    value, named = best(run.instance)
+    try:
+        value, named = best(run.instance)
+    except Exception as exc:  # a failing bound must not sink the solve; say so in the notes
+        run.notes.append(f"lower bounds unavailable ({type(exc).__name__}: {exc}); using the model's own")
+        return
     run.bounds.update({k: float(v) for k, v in named.items()})
     run.bound = max(run.bound, round_bound(float(value), run.problem.integral_objective))
 
@@ -230,6 +234,11 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
                       seconds=round(time.perf_counter() - t0, 3))
     try:
         _lower_bounds(run)
+        if math.isinf(run.bound):
+            which = ", ".join(k for k, v in run.bounds.items() if math.isinf(v))
+            run.notes.append(f"a lower bound proves that no plan exists ({which})")
+            return Result(instance.name, "infeasible", bounds=run.bounds, notes=tuple(run.notes), solver=info(),
+                          seconds=round(time.perf_counter() - t0, 3))
         budget = min(2.0, 0.05 * time_limit)
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
         if export_model:
