@@ -320,8 +320,12 @@ def _dask(address: str) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[i
         with Client(address, set_as_default=False) as client:
             futures = [client.submit(solve_isolated, job, wall, pure=False) for job, wall in work]
             index = {f.key: k for k, f in enumerate(futures)}
-            for f in dask_completed(futures):
-                yield index[f.key], f.result()
+            for f in dask_completed(futures, loop=client.loop):
+                try:
+                    outcome = f.result()
+                except Exception as exc:  # the cluster failed (lost worker...), not the solve: retried on resume
+                    outcome = {"result": None, "error": f"Dask task failed: {type(exc).__name__}: {exc}", "seconds": 0.0, "transient": True}
+                yield index[f.key], outcome
 
     return execute
 
@@ -348,7 +352,8 @@ def run_bench(
     for k, outcome in execute([(prepared[k][1], config.wall_limit) for k in todo]):
         entry = prepared[todo[k]][0]
         record = make_record(entry, config, outcome, version)
-        store.append(record)
+        if not outcome.get("transient"):
+            store.append(record)
         new[todo[k]] = record
         bar.update(record)
     return [new[k] if k in new else old[key] for k, key in enumerate(keys)]

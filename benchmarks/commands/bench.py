@@ -73,7 +73,8 @@ def run(args: argparse.Namespace) -> int:
 
     if args.report:
         instances = {e.key: e.instance for e in entries}
-        compare = records + ([r for r in baseline if r["key"] in instances] if baseline else [])
+        mine = {r["run_key"] for r in records}
+        compare = records + [r for r in baseline or [] if r.get("key") in instances and r.get("run_key") not in mine]
         files = write_report(args.report, compare, instances)
         print("report: " + ", ".join(str(f) for f in files))
     if args.junit:
