@@ -9,6 +9,8 @@ import pytest
 from hypothesis import given, settings, strategies as st
 from shapely.geometry import LineString, box as rect
 
+from instances.checker import check_plan
+from instances.drop import drop_plan
 from instances.generate import random_instance
 from instances.io import dumps, instance_from_dict, instance_to_dict
 from instances.model import is_upright, oriented_size
@@ -33,10 +35,27 @@ def _roundtrip(inst):
 )
 def test_every_random_instance_validates(dim, n, seed, cls, targets, must_tip, upright, flush, order, support):
     inst = random_instance(dim, n, seed, size_class=cls, targets=targets, must_tip=must_tip, upright=upright,
-                           flush=flush, drop_order=order, support=support, source_ratio=1.6)
+                           flush=flush, drop_order=order, support=support, source_ratio=1.6, feasible=False)
     back = _roundtrip(inst)  # schema + meaning checks, including "every box rests"
     assert back == inst
     assert len(inst.boxes) == n
+
+
+@pytest.mark.parametrize("dim, support", [(2, "center"), (3, "center"), (2, "none"), (3, "base-fraction")])
+def test_feasible_draws_carry_a_checked_plan(dim, support):
+    """The default redraws until the constructive plan passes the checker: the instance is feasible."""
+    frac = 0.5 if support == "base-fraction" else None
+    for seed in range(3):
+        inst = random_instance(dim, 12, seed, must_tip=0.2, targets=2, source_ratio=1.6, flush=0.8,
+                               support=support, min_fraction=frac)
+        plan = drop_plan(inst)
+        assert plan is not None and check_plan(inst, plan).feasible
+
+
+def test_infeasible_settings_are_refused_clearly():
+    """Corner support with one narrow strip and many widths: no draw has a plan the heuristic finds."""
+    with pytest.raises(ValueError, match="feasible=False"):
+        random_instance(2, 25, 0, size_class="mixed", support="corners", must_tip=0.3, source_ratio=2.0, flush=1.0)
 
 
 def test_same_arguments_give_identical_bytes():

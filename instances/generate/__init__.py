@@ -7,5 +7,6 @@ Same arguments, same instance: every draw comes from one numpy Generator seeded 
 """
 from .arrangement import random_instance
 from .classes import class_names, find_class
+from .planted import planted_instance
 
-__all__ = ["random_instance", "class_names", "find_class"]
+__all__ = ["random_instance", "planted_instance", "class_names", "find_class"]
