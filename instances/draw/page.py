@@ -188,6 +188,7 @@ _JS = r"""
     });
     if (slider) {
       slider.value = String(k);
+      slider.setAttribute("aria-valuenow", String(k));
       document.getElementById("step-label").textContent = k === 0 ? "start (move 0 of " + n + ")" : "move " + k + " of " + n;
       document.getElementById("count-source").textContent = String(inSource);
       document.getElementById("count-target").textContent = String(packed);
