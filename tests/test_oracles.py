@@ -110,6 +110,18 @@ def test_center_support_lets_a_wide_box_bridge_onto_a_narrow_one():
     assert [m.box for m in got.plan.moves] == ["b", "a"]
 
 
+def test_loading_from_above_forbids_sliding_under_an_overhang():
+    # Source stack: a (1x1) on the floor, b (2x1) on a, c (1x1) on b: the order is c, b, a.
+    # Target 2 wide, support center. c at x=0, b on c (base centre x=1 on c's top edge: edges
+    # count). With loading `any`, a slides in under b's overhang at x=1: height 2. Lowered from
+    # above it can only go on top of b: height 3.
+    rows = [("a", (1, 1), (0, 0), ("xy",)), ("b", (2, 1), (0, 1), ("xy",)), ("c", (1, 1), (0, 2), ("xy",))]
+    assert solve_exhaustive(instance2d(rows, 2, source=(2, None), loading="from-above")).objective == 3
+    slid = solve_exhaustive(instance2d(rows, 2, source=(2, None), loading="any"))
+    assert slid.objective == 2
+    assert [m.box for m in slid.plan.moves] == ["c", "b", "a"]
+
+
 def test_base_fraction_threshold():
     # Source: a (2x1, never tipped) on the floor, b (1x1) on a, so b leaves first. In a 2-wide
     # target a must then stand on b (no room beside it), with half of its base on b's top.
