@@ -117,9 +117,11 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _option_of(message: str) -> str:
-    """The command-line option a generator error message is about (its first word), if any."""
-    word = message.split(" ", 1)[0]
+    """The command-line option a generator error message is about (the first parameter it names)."""
+    if "size class" in message:
+        return "--class"
     names = set(COMMON) | set(ONLY["random"]) | set(ONLY["planted"]) | {"dim", "boxes"}
-    if word not in names:
-        return "arguments"
-    return {"size_class": "--class", "count": "--per-type", "feasible": "--allow-infeasible"}.get(word, "--" + word.replace("_", "-"))
+    for word in message.replace("(", " ").replace(")", " ").replace(":", " ").split():
+        if word in names:
+            return {"count": "--per-type", "feasible": "--allow-infeasible"}.get(word, "--" + word.replace("_", "-"))
+    return "arguments"

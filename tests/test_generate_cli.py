@@ -1,0 +1,69 @@
+"""`stackproof generate` (benchmarks/commands/generate.py): files, manifest, determinism, errors."""
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from benchmarks.cli import main
+from instances.checker import check_plan
+from instances.io import read_instance, read_plan
+
+
+def _files(folder):
+    return {p.name: p.read_bytes() for p in sorted(folder.iterdir())}
+
+
+def test_planted_writes_instances_plans_and_manifest(tmp_path):
+    out = tmp_path / "set"
+    rc = main(["generate", "planted", "--dim", "2", "--boxes", "9", "--count", "3", "--seed", "5",
+               "--targets", "2", "--tipped", "0.4", "-o", str(out)])
+    assert rc == 0
+    manifest = json.loads((out / "MANIFEST.json").read_text())
+    assert manifest["generator"] == "planted" and manifest["parameters"]["targets"] == 2
+    assert [e["seed"] for e in manifest["instances"]] == [5, 6, 7]
+    for e in manifest["instances"]:
+        inst = read_instance(out / e["file"])
+        plan = read_plan(out / e["plan"])
+        report = check_plan(inst, plan)
+        assert report.feasible and report.objective == e["known"] == inst.known.optimum
+    assert len(list(out.iterdir())) == 7
+
+
+def test_random_writes_instances_without_plans(tmp_path):
+    out = tmp_path / "r"
+    rc = main(["generate", "random", "--dim", "3", "--boxes", "6", "--count", "2", "--class", "wide",
+               "--targets", "2", "--shares", "2,1", "--must-tip", "0.3", "--source-ratio", "2", "-o", str(out)])
+    assert rc == 0
+    manifest = json.loads((out / "MANIFEST.json").read_text())
+    assert manifest["parameters"]["size_class"] == "wide" and manifest["parameters"]["shares"] == [2.0, 1.0]
+    for e in manifest["instances"]:
+        assert "plan" not in e and e["known"] is None
+        inst = read_instance(out / e["file"])
+        assert sum(1 for b in inst.boxes if b.target == "dest-1") == 4
+
+
+@pytest.mark.parametrize("kind", ["random", "planted"])
+def test_same_arguments_give_byte_identical_folders(tmp_path, kind):
+    args = ["generate", kind, "--dim", "3", "--boxes", "8", "--count", "2", "--seed", "3", "--upright", "0.25"]
+    assert main(args + ["-o", str(tmp_path / "a")]) == 0
+    assert main(args + ["-o", str(tmp_path / "b")]) == 0
+    assert _files(tmp_path / "a") == _files(tmp_path / "b")
+
+
+@pytest.mark.parametrize(
+    "extra, option",
+    [
+        (["random", "--must-tip", "0.5", "--source-ratio", "1"], "--must-tip"),
+        (["random", "--class", "huge"], "--class"),
+        (["planted", "--targets", "4", "--boxes", "3"], "--boxes"),
+        (["planted", "--count", "0"], "--count"),
+    ],
+)
+def test_bad_arguments_exit_2_naming_the_option(tmp_path, capsys, extra, option):
+    kind, rest = extra[0], extra[1:]
+    args = ["generate", kind, "--dim", "2", "--boxes", "5", "-o", str(tmp_path / "x")] + rest
+    assert main(args) == 2
+    err = capsys.readouterr().err
+    assert option in err
+    assert not (tmp_path / "x" / "MANIFEST.json").exists()
