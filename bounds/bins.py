@@ -61,6 +61,8 @@ def dual_feasible(view: View) -> tuple[float, str]:
         boxes = view.forced(k)
         if boxes:
             value, name = _dff_sum(view, boxes, k, axes=range(view.instance.dim))
+            if ceil_count(value) > k.count:
+                return math.inf, f"DFF {name}: the boxes bound for {k.id} need {ceil_count(value):g} containers, {k.count} exist"
             total += ceil_count(value)
             parts.append(f"{k.id}: {name}")
     return total, "DFF per type (" + "; ".join(parts) + ")"
@@ -82,6 +84,8 @@ def big_items(view: View) -> tuple[float, str]:
         boxes = view.forced(k)
         if boxes:
             v, why = _big_items_type(view, boxes, k)
+            if v > k.count:
+                return math.inf, f"the boxes bound for {k.id} need {v:g} containers ({why}), {k.count} exist"
             total += v
             parts.append(f"{k.id}: {why}")
     return total, "; ".join(parts)
