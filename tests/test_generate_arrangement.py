@@ -14,6 +14,7 @@ from instances.drop import drop_plan
 from instances.generate import random_instance
 from instances.io import dumps, instance_from_dict, instance_to_dict
 from instances.model import is_upright, oriented_size
+from instances.precedence import precedence_graph
 
 
 def _roundtrip(inst):
@@ -158,3 +159,33 @@ def test_bins_objective_gets_heights_and_enough_bins():
     inst = random_instance(2, 9, 1, objective="bins", targets=2, shares=[2, 1])
     assert all(c.height == 10 for c in inst.containers)
     assert [c.count for c in inst.containers] == [6, 3]
+
+
+def test_sizes_follow_the_size_class():
+    """Martello & Vigo (1998) class I at W = 100: about 70 % of boxes are wide items
+    (w >= 67, h <= 50; the other types reach that region with probability ~0.0013).
+    Tolerance: 5 standard deviations of a binomial share over 1000 boxes (about 0.072)."""
+    n = 0
+    hits = 0
+    for seed in range(20):
+        inst = random_instance(2, 50, seed, size_class="mv1", width=100, feasible=False)
+        n += len(inst.boxes)
+        hits += sum(1 for b in inst.boxes if b.size[0] >= 67 and b.size[1] <= 50)
+    p = 0.7 + 0.1 * (34 / 51) * (1 / 51)
+    sd = (p * (1 - p) / n) ** 0.5
+    assert abs(hits / n - p) < 5 * sd
+
+
+def test_flush_blocks_more_faces():
+    def blocked_share(flush):
+        blocked = faces = 0
+        for seed in range(8):
+            inst = random_instance(2, 20, seed, flush=flush, source_ratio=2.0, feasible=False)
+            g = precedence_graph(inst)
+            for b in inst.boxes:
+                kinds = {d["kind"] for _, _, d in g.in_edges(b.id, data=True)} | set(g.nodes[b.id]["wall_blocked"])
+                blocked += len(kinds & {"left", "right"})
+                faces += 2
+        return blocked / faces
+
+    assert blocked_share(1.0) > blocked_share(0.0) + 0.15

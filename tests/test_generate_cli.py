@@ -67,3 +67,19 @@ def test_bad_arguments_exit_2_naming_the_option(tmp_path, capsys, extra, option)
     err = capsys.readouterr().err
     assert option in err
     assert not (tmp_path / "x" / "MANIFEST.json").exists()
+
+
+def test_identical_bytes_across_processes_with_different_hash_seeds(tmp_path):
+    """Set iteration order varies with PYTHONHASHSEED; the output must not."""
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[1]
+    for k, hs in enumerate(("1", "2")):
+        env = dict(os.environ, PYTHONHASHSEED=hs, PYTHONPATH=str(root))
+        subprocess.run([sys.executable, "-m", "benchmarks.cli", "generate", "planted", "--dim", "3", "--boxes", "10",
+                        "--targets", "2", "--tipped", "0.5", "-o", str(tmp_path / str(k))], check=True, env=env, cwd=root,
+                       capture_output=True)
+    assert _files(tmp_path / "0") == _files(tmp_path / "1")

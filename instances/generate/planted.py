@@ -101,8 +101,9 @@ def planted_instance(
     upright_set = upright_orientations(dim)
     orient = [_pick(rng, dim, sequence[k][1][1], tipping=k in tip) for k in range(n)]
     extents = [e for _, (_, e) in sequence]
-    floor = source_floor(footprint, source_ratio, [e for e in extents] + [e[::-1] if dim == 2 else (e[1], e[0], e[2]) for e in extents]
-                         + [_source_size(e, o) for e, o in zip(extents, orient)])
+    # wide enough for the chosen source sizes and for any upright fallback (a turn, in 3D)
+    fallback = [e for e in extents] + ([(e[1], e[0], e[2]) for e in extents] if dim == 3 else [])
+    floor = source_floor(footprint, source_ratio, fallback + [_source_size(e, o) for e, o in zip(extents, orient)])
 
     stack = Stack(floor, side_clearance)
     at: list[tuple[int, ...]] = [()] * n

@@ -15,11 +15,11 @@ from typing import Optional, Sequence
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
-from ..model import FACES_OF_GRIP
+from ..geometry import Placed
+from ..model import FACES, FACES_OF_GRIP
+from ..precedence import FACE_AXIS, touches
 
 Vec = tuple[int, ...]
-# face name -> (axis, side): side -1 is the low face (left, front), +1 the high face.
-FACE_AXIS = {"left": (0, -1), "right": (0, 1), "front": (1, -1), "back": (1, 1)}
 FLUSH_TRIES = 24
 
 
@@ -29,7 +29,7 @@ class Stack:
 
     floor: Vec
     clearance: float = 0
-    placed: list[tuple[Vec, Vec]] = field(default_factory=list)  # (position, extents)
+    placed: list[Placed] = field(default_factory=list)
 
     def __post_init__(self) -> None:
         self.heights = np.zeros(self.floor, dtype=np.int64)
@@ -41,30 +41,25 @@ class Stack:
         window = tuple(int(e) for e in ext[:-1])
         return sliding_window_view(self.heights, window).max(axis=tuple(range(-len(window), 0)))
 
-    def touches(self, pos: Vec, ext: Vec, face: str) -> bool:
-        """True when `face` of a box at `pos` is blocked: a wall or a placed box within clearance."""
+    def blocked(self, pos: Vec, ext: Vec, face: str) -> bool:
+        """True when `face` of a box at `pos` is blocked: a wall or a placed box within clearance.
+
+        Integer data, so the tolerance is 0; the touching rule is the precedence graph's own.
+        """
         axis, side = FACE_AXIS[face]
-        c = self.clearance
-        if side < 0:
-            if pos[axis] <= c:
-                return True
-        elif self.floor[axis] - (pos[axis] + ext[axis]) <= c:
+        wall = pos[axis] if side < 0 else self.floor[axis] - (pos[axis] + ext[axis])
+        if wall <= self.clearance:
             return True
-        others = [k for k in range(len(pos)) if k != axis]
-        for q, e in self.placed:
-            gap = pos[axis] - (q[axis] + e[axis]) if side < 0 else q[axis] - (pos[axis] + ext[axis])
-            if 0 <= gap <= c and all(min(pos[k] + ext[k], q[k] + e[k]) - max(pos[k], q[k]) > 0 for k in others):
-                return True
-        return False
+        me = Placed("", pos, ext)
+        return any(touches(q, me, face, self.clearance, 0.0) for q in self.placed)
 
     def grip_free(self, pos: Vec, ext: Vec, grip: str) -> bool:
         """True when at least one face of `grip` is free of walls and placed boxes."""
-        return any(not self.touches(pos, ext, f) for f in FACES_OF_GRIP[grip])
+        return any(not self.blocked(pos, ext, f) for f in FACES_OF_GRIP[grip])
 
     def is_flush(self, pos: Vec, ext: Vec) -> bool:
         """True when some side face touches a wall or a placed box."""
-        faces = ("left", "right") if len(pos) == 2 else ("left", "right", "front", "back")
-        return any(self.touches(pos, ext, f) for f in faces)
+        return any(self.blocked(pos, ext, f) for f in FACES[len(pos)])
 
     # ------------------------------------------------------------ dropping
 
@@ -102,8 +97,8 @@ class Stack:
         lines = []
         for axis, n in enumerate(shape):
             coords = {0, n - 1}
-            for q, e in self.placed:
-                coords.update((q[axis] + e[axis], q[axis] - ext[axis]))
+            for q in self.placed:
+                coords.update((q.hi(axis), q.lo(axis) - ext[axis]))
             lines.append(sorted(c for c in coords if 0 <= c < n))
         if len(shape) == 1:
             return [(x,) for x in lines[0]]
@@ -112,7 +107,7 @@ class Stack:
         return sorted(cells)
 
     def _place(self, pos: Vec, ext: Vec) -> Vec:
-        self.placed.append((pos, ext))
+        self.placed.append(Placed("", pos, ext))
         window = tuple(slice(p, p + e) for p, e in zip(pos[:-1], ext[:-1]))
         self.heights[window] = pos[-1] + ext[-1]
         return pos
