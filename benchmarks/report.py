@@ -285,3 +285,61 @@ def write_report(out: str | Path, records: Sequence[dict], instances: Optional[M
     write_text_atomic(files[1], results_csv(records))
     write_text_atomic(files[2], report_html(records, links))
     return files
+
+
+# ---------------------------------------------------------------- grading reports
+
+
+def write_grade_report(out: str | Path, graded: Mapping[str, Sequence]) -> list[Path]:
+    """`grade.csv` and a self-contained `grade.html` for one or several graded plan sources
+    (label -> rows of `benchmarks.grade.Graded`), with a quality profile when several are compared."""
+    from .grade import summary
+
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    out = Path(out)
+    out.mkdir(parents=True, exist_ok=True)
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(("source", "key", "feasible", "objective", "gold", "gold_kind", "gap", "seconds", "violations"))
+    for label, rows in graded.items():
+        for r in rows:
+            w.writerow([label, r.key, r.feasible, _blank(r.objective), _blank(r.gold), r.gold_kind or "", _blank(r.gap),
+                        _blank(r.seconds), "; ".join(r.violations[:5])])
+    e = html.escape
+    parts = ["<!DOCTYPE html><html><head><meta charset='utf-8'><title>stackproof grading report</title>",
+             "<style>body{font-family:sans-serif;margin:2em}table{border-collapse:collapse}td,th{border:1px solid #ccc;padding:2px 6px}</style>",
+             "</head><body><h1>Grading report</h1><table><tr><th>source</th><th>instances</th><th>feasible</th><th>optimal</th>"
+             "<th>mean gap</th><th>median gap</th><th>max gap</th><th>reasons for infeasible plans</th></tr>"]
+    for label, rows in graded.items():
+        s = summary(rows)
+        reasons = ", ".join(f"{k} x{v}" for k, v in s["infeasible_reasons"].items())
+        parts.append(f"<tr><td>{e(label)}</td><td>{s['instances']}</td><td>{s['feasible']}</td><td>{s['optimal']}</td>"
+                     f"<td>{_fmt(s['mean_gap'], '.4f')}</td><td>{_fmt(s['median_gap'], '.4f')}</td><td>{_fmt(s['max_gap'], '.4f')}</td>"
+                     f"<td>{e(reasons)}</td></tr>")
+    parts.append("</table>")
+    fig, ax = plt.subplots(figsize=(6.4, 4))
+    data = [(label, [r.gap for r in rows if r.gap is not None]) for label, rows in graded.items()]
+    data = [(label, g) for label, g in data if g]
+    if data:
+        ax.hist([g for _, g in data], bins=20, label=[label for label, _ in data])
+        ax.legend(fontsize=7)
+    ax.set_xlabel("gap to the gold value (objective - gold) / objective")
+    ax.set_ylabel("instances")
+    parts.append(f"<h2>Gap distribution</h2><img alt='gaps' src='data:image/png;base64,{_png(fig)}'>")
+    if len(graded) > 1:
+        costs = {label: {r.key: (r.objective if r.feasible else None) for r in rows} for label, rows in graded.items()}
+        parts.append("<h2>Performance profile: objective value</h2>")
+        parts.append(f"<img alt='performance profile' src='data:image/png;base64,{plot_profiles(costs, 'tau (objective ratio to the best plan)')}'>")
+    parts.append("<p>Plans are geometric models, not load-securing advice.</p></body></html>\n")
+    files = [out / "grade.csv", out / "grade.html"]
+    write_text_atomic(files[0], buf.getvalue())
+    write_text_atomic(files[1], "".join(parts))
+    return files
+
+
+def _blank(x):
+    return "" if x is None else x

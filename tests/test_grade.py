@@ -133,3 +133,18 @@ def test_gap_and_summary_numbers():
     s = summary(suite_rows)
     assert s["feasible"] == 2 and s["optimal"] == 1 and s["mean_gap"] == 0.125 and s["median_gap"] == 0.125
     assert s["max_gap"] == 0.25 and s["infeasible_reasons"] == {"overlap": 1}
+
+
+def test_several_heuristics_are_compared_with_a_profile(tmp_path, user_module, capsys):
+    suite = write_suite(tmp_path / "s", [strip_instance("two", [(1, 1)] * 2, 2), strip_instance("four", [(1, 2)] * 4, 2)])
+    out = tmp_path / "rep"
+    code = main(["grade", str(suite), "--heuristic", f"{user_module}:peek", "--heuristic", f"{user_module}:stack_all_at_origin",
+                 "--report", str(out), "--json"])
+    assert code == 1
+    doc = json.loads(capsys.readouterr().out)
+    assert [s["source"] for s in doc["sources"]] == [f"{user_module}:peek", f"{user_module}:stack_all_at_origin"]
+    assert doc["sources"][0]["summary"]["feasible"] == 2 and doc["sources"][1]["summary"]["feasible"] == 0
+    page = (out / "grade.html").read_text()
+    assert page.count("data:image/png;base64,") == 2 and "Performance profile" in page
+    assert len((out / "grade.csv").read_text().splitlines()) == 5
+    assert main(["grade", str(suite)]) == 2
