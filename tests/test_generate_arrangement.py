@@ -189,3 +189,16 @@ def test_flush_blocks_more_faces():
         return blocked / faces
 
     assert blocked_share(1.0) > blocked_share(0.0) + 0.15
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_exhaustive_search_confirms_feasible_draws(seed):
+    """The independent exhaustive oracle finds the default (feasible) draws feasible, with an
+    optimum no worse than the constructive plan that vouched for them."""
+    from tests.oracles.exhaustive import solve_exhaustive
+
+    inst = random_instance(2, 4, seed, width=4, size_class="small" if seed % 2 else "uniform", must_tip=0.25,
+                           source_ratio=1.5, integer_positions=True, flush=1.0)
+    answer = solve_exhaustive(inst)
+    assert answer.status == "optimal"
+    assert answer.objective <= check_plan(inst, drop_plan(inst)).objective

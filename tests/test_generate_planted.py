@@ -178,3 +178,37 @@ def test_planted_value_rule_matches_published_perfect_packings():
 def test_bad_parameters_are_named(kw, word):
     with pytest.raises(ValueError, match=word):
         planted_instance(2, 5, 0, **kw)
+
+
+def _classic(inst):
+    """The same boxes as a classic strip instance: no source, loading any, support none."""
+    from dataclasses import replace
+
+    from instances.model import Rules
+
+    return replace(inst, source=None, boxes=tuple(replace(b, at=None) for b in inst.boxes),
+                   rules=Rules(support=replace(inst.rules.support, rule="none"), loading="any", integer_positions=True),
+                   known=None)
+
+
+@pytest.mark.parametrize("dim, seed", [(2, 0), (2, 1), (2, 2), (3, 0), (3, 1)])
+def test_cpsat_finds_no_lower_strip_than_the_planted_height(dim, seed):
+    """OR-Tools CP-SAT (an independent general-purpose solver) on the planted boxes without the
+    source: the strip packing optimum equals the planted height."""
+    from tests.oracles.cpsat import strip_height_cpsat
+
+    inst, _ = planted_instance(dim, 7, seed, width=5, height=4, tipped=0.5)
+    answer = strip_height_cpsat(_classic(inst), time_limit=20)
+    assert answer.status == "optimal" and answer.height == inst.known.optimum == 4
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_exhaustive_search_agrees_with_the_planted_optimum(seed):
+    """The independent exhaustive oracle (its own precedence and support code) over every plan of a
+    tiny planted instance, source and rules included: its optimum is the planted one."""
+    from tests.oracles.exhaustive import solve_exhaustive
+
+    inst, _ = planted_instance(2, 4, seed, width=3, height=3, tipped=0.5, integer_positions=True, source_ratio=1.0,
+                               flush=1.0, targets=1 + seed % 2)
+    answer = solve_exhaustive(inst)
+    assert answer.status == "optimal" and answer.objective == inst.known.optimum

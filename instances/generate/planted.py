@@ -67,8 +67,9 @@ def planted_instance(
     `targets` container types of `count` containers each (default 1), all `width` x `depth` (3D) with
     planted height `height` (default `width`); types beyond one make every box a target of its
     type. Open-top containers unless the objective is `bins`. `pinwheel` is the chance a cut is
-    non-guillotine; `tipped` the share of boxes stored tipped (fewer when no position leaves a
-    grip face free); `upright` the share of "this side up" boxes; `flush` as for random
+    non-guillotine; `tipped` the share of boxes stored tipped, drawn among boxes a tip reshapes
+    (fewer when there are not enough such boxes, or when no source position leaves a grip face
+    free: such a box is stored upright instead); `upright` the share of "this side up" boxes; `flush` as for random
     instances. Raises ValueError on bad parameters.
 
     Example: ``inst, plan = planted_instance(2, 12, seed=3, targets=2, tipped=0.4)``.
