@@ -152,8 +152,8 @@ def test_page_without_plan_shows_instance_and_graph(tmp_path):
     assert not any(a.get("id") == "slider" for _, a in d.elements)
     assert shown(d, "source") == {b.id for b in inst.boxes}
     assert not shown(d, "target")
-    rows = [a for t, a in d.elements if t == "tr" and a.get("class") == "edge-row"]
-    assert len(rows) == precedence_graph(inst).number_of_edges()
+    rows = [a["data-box"] for t, a in d.elements if t == "tr" and a.get("class") == "box-row"]
+    assert rows == [b.id for b in inst.boxes]
     assert "No plan given" in d.text["move"]
 
 
@@ -165,3 +165,51 @@ def test_3d_page_steps(tmp_path):
     page = write_page(inst, plan, tmp_path / "p3.html")
     d = dom_at(page, 2)
     assert shown(d, "target") == {m.box for m in plan.moves[:2]}
+
+
+class _Rows(HTMLParser):
+    """The cells of every table row of class box-row."""
+
+    def __init__(self):
+        super().__init__()
+        self.rows: list[list[str]] = []
+        self._cell: list[str] | None = None
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "tr" and dict(attrs).get("class") == "box-row":
+            self.rows.append([])
+        elif tag == "td" and self.rows is not None:
+            self._cell = []
+
+    def handle_endtag(self, tag):
+        if tag == "td" and self._cell is not None and self.rows:
+            self.rows[-1].append("".join(self._cell))
+            self._cell = None
+
+    def handle_data(self, data):
+        if self._cell is not None:
+            self._cell.append(data)
+
+
+def test_precedence_table_matches_the_graph(demo_page):
+    """Rows against networkx: direct lift predecessors (transitive reduction), all of them
+    (ancestors), and per face the touching boxes or the wall, as `precedence_graph` has them."""
+    import networkx as nx
+
+    from instances.precedence import face_blockers, lift_graph
+
+    inst, _, page = demo_page
+    g = precedence_graph(inst)
+    lifts = lift_graph(g)
+    reduced = nx.transitive_reduction(lifts)
+    p = _Rows()
+    p.feed(page.read_text(encoding="utf-8"))
+    assert [r[0] for r in p.rows] == [b.id for b in inst.boxes]
+    for box, above, count, left, right in p.rows:
+        assert above == (", ".join(sorted(reduced.predecessors(box))) or "-")
+        assert int(count) == len(nx.ancestors(lifts, box))
+        for face, cell in (("left", left), ("right", right)):
+            if face in g.nodes[box]["wall_blocked"]:
+                assert cell == "wall"
+            else:
+                assert cell == (", ".join(sorted(face_blockers(g, box).get(face, ()))) or "free")

@@ -255,3 +255,41 @@ def test_replay_records_tips_and_faces():
     assert tip.tipped and tip.grip == "left-right"
     assert tip.faces == {"left": "wall", "right": "free"}  # FORMATS.md: left against the wall, right free
     assert [s.heights[("van-north", 0)] for s in rp.steps] == [1, 5, 5]
+
+
+def test_malformed_plan_still_draws_and_lists_every_violation():
+    """The library draws whatever a solver hands it: unknown box or container, a box moved twice,
+    a 3D orientation in 2D. The checker's findings appear, nothing raises."""
+    from instances.model import Move, Plan
+
+    inst, _ = worked()
+    plan = Plan("x", (Move("crate-c", ("van-north", 0), "xy", (0, 0)), Move("crate-c", ("van-north", 0), "xy", (0, 1)),
+                      Move("ghost", ("van-north", 0), "xy", (0, 3)), Move("crate-a", ("lorry", 0), "yx", (0, 0)),
+                      Move("crate-b", ("van-north", 3), "xyz", (0, 0, 0))))
+    report = check_plan(inst, plan)
+    root = svg_of(inst, plan)
+    texts = [t.text or "" for t in root.iter(NS + "text")]
+    lines = [t for t in texts if t.startswith(("move ", "plan ("))]
+    assert len(lines) == len(report.violations)
+    assert {g.get("data-panel") for g in groups(root, "panel")} >= {"lorry#0"}
+    for fmt in ("png", "html"):
+        assert len(render(inst, plan, fmt)) > 1000
+
+
+def test_published_1d_bins_drawn_one_panel_per_bin_used(published_dir):
+    """Falkenauer (1996), J. Heuristics 2:5-30, "triplets" t60: built with a known optimum of
+    n/3 = 20 bins (the published folder's manifest). A checked plan uses at least that many, and
+    the picture has one panel per bin used; the flat unit-height data get a stretched,
+    labelled vertical scale."""
+    from benchmarks.published import load_published
+
+    entry = load_published(published_dir, ["t60_00"])[0]
+    inst = entry.instance
+    plan = drop_plan(inst)
+    report = check_plan(inst, plan)
+    assert report.feasible and report.objective >= inst.known.optimum == 20
+    root = svg_of(inst, plan)
+    panels = {g.get("data-panel") for g in groups(root, "panel")}
+    assert len(panels) == report.objective
+    assert len(groups(root, "box", side="target")) == 60
+    assert any("vertical scale stretched" in (t.text or "") for t in root.iter(NS + "text"))

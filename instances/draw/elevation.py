@@ -14,23 +14,27 @@ from ..precedence import lift_graph
 from . import palette
 from .replay import Key, Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label, rect
-from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, choose_scale, flow, legend,
+from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, choose_scale, flow, legend, vertical_stretch,
                     num, panel_name, panel_width, side_arrow, source_size)
+
+
+HEIGHT_LABEL = 46.0  # pixels right of a target panel for its packed height
 
 
 class Frame:
     """Maps world coordinates of one panel (y up) to pixels (y down)."""
 
-    def __init__(self, x: float, y: float, scale: float, height: float):
+    def __init__(self, x: float, y: float, scale: float, height: float, stretch: float = 1.0):
         self.x, self.y, self.s, self.h = x, y, scale, height
+        self.sy = scale * stretch  # vertical pixels per unit
 
     def px(self, wx: float, wy: float) -> tuple[float, float]:
-        return self.x + wx * self.s, self.y + HEADER + (self.h - wy) * self.s
+        return self.x + wx * self.s, self.y + HEADER + (self.h - wy) * self.sy
 
     def box(self, at, ext) -> tuple[float, float, float, float]:
         """Pixel (left, top, width, height) of a box at `at` with extents `ext`."""
         left, top = self.px(at[0], at[1] + ext[1])
-        return left, top, ext[0] * self.s, ext[1] * self.s
+        return left, top, ext[0] * self.s, ext[1] * self.sy
 
 
 def scene(rp: Replay, color_by: str = "destination") -> Scene:
@@ -52,9 +56,11 @@ def scene(rp: Replay, color_by: str = "destination") -> Scene:
             size, open_top = container_size(inst, rp, (c.id, 0))
             panels.append(("type", (c.id, c.count), size, open_top))
     scale = choose_scale([p[2][0] for p in panels], [p[2][1] for p in panels])
-    sizes = [(panel_width(panel_name(p[0], p[1], p[3]), p[2][0] * scale), p[2][1] * scale + HEADER) for p in panels]
+    stretch = vertical_stretch(scale, max(p[2][1] for p in panels))
+    sizes = [(panel_width(panel_name(p[0], p[1], p[3]), p[2][0] * scale) + (HEIGHT_LABEL if p[0] == "target" else 0),
+              p[2][1] * scale * stretch + HEADER) for p in panels]
     corners, width, height = flow(sizes)
-    frames = [Frame(x, y, scale, p[2][1]) for (x, y), p in zip(corners, panels)]
+    frames = [Frame(x, y, scale, p[2][1], stretch) for (x, y), p in zip(corners, panels)]
 
     back: list[Item] = []
     bodies: list[Item] = []
@@ -81,6 +87,10 @@ def scene(rp: Replay, color_by: str = "destination") -> Scene:
                     labels.append(label)
             back.append(_height_mark(rp, frame, key, size[0]))
     keys, key_h = legend(col, rp, 20.0, height + 14, max(width - 40, 600.0), edges=bool(edges) or inst.source is not None)
+    if stretch != 1.0:
+        keys.append(Text(20.0, height + 14 + key_h + 8, f"vertical scale stretched x{stretch:.3g} (the boxes are very flat)", 11,
+                         anchor="start", cls="stretch-note"))
+        key_h += 18
     title = inst.name or "instance"
     return Scene(max(width, 640.0), height + 14 + key_h + 16, back + bodies + edges + labels + keys, title)
 

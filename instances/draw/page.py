@@ -12,8 +12,11 @@ import json
 from html import escape
 from typing import Optional
 
+import networkx as nx
+
 from ..checker import objective_value
-from ..model import Instance, Plan
+from ..model import FACES, Instance, Plan
+from ..precedence import face_blockers, lift_graph
 from .replay import Replay, Step, grip_text, replay
 from .svg import to_svg
 from .views import container_label, num
@@ -98,27 +101,34 @@ def page_data(rp: Replay) -> dict:
 
 
 def graph_html(rp: Replay) -> str:
-    """The precedence graph as a table: one row per edge, then the wall-blocked faces."""
-    g = rp.graph
+    """The precedence graph as a table, one row per box: the boxes directly above it (the
+    transitive reduction of the lift edges) and, per side face, the boxes touching it or the wall."""
+    inst, g = rp.instance, rp.graph
+    if inst.source is None:
+        return "<p>No source: every box can be taken at any time, in any orientation.</p>"
+    lifts = nx.transitive_reduction(lift_graph(g))
+    faces = FACES[inst.dim]
+    head = "".join(f"<th>{f} face</th>" for f in faces)
     rows = []
-    for j, i, kind in sorted(g.edges(data="kind")):
-        if kind == "lift":
-            what = f"{j} lies above {i}: it must leave first"
-        else:
-            what = f"{j} touches the {kind} face of {i}: {i} can be tipped by that face only once {j} has left"
-        rows.append(f"<tr class=\"edge-row\" data-kind=\"{escape(kind)}\"><td>{escape(j)}</td><td>{escape(kind)}</td>"
-                    f"<td>{escape(i)}</td><td>{escape(what)}</td></tr>")
-    walls = [(n, sorted(f)) for n, f in sorted(g.nodes(data="wall_blocked")) if f]
-    out = []
-    if rows:
-        out.append("<table><thead><tr><th>first</th><th>kind</th><th>then</th><th>meaning</th></tr></thead><tbody>"
-                   + "".join(rows) + "</tbody></table>")
-    else:
-        out.append("<p>No precedence: every box can leave the source at any time.</p>")
-    if walls:
-        out.append("<p>Faces against a source wall (never free): "
-                   + "; ".join(f"{escape(n)}: {', '.join(f)}" for n, f in walls) + "</p>")
-    return "\n".join(out)
+    for b in inst.boxes:
+        above = sorted(lifts.predecessors(b.id))
+        blockers = face_blockers(g, b.id)
+        walls = g.nodes[b.id]["wall_blocked"]
+        cells = []
+        for f in faces:
+            if f in walls:
+                cells.append("<td class=\"wall\">wall</td>")
+            else:
+                cells.append(f"<td>{escape(', '.join(sorted(blockers.get(f, ()))) or 'free')}</td>")
+        n_all = len(nx.ancestors(lifts, b.id))
+        rows.append(f"<tr class=\"box-row\" data-box=\"{escape(b.id)}\"><td>{escape(b.id)}</td>"
+                    f"<td>{escape(', '.join(above)) or '-'}</td><td>{n_all}</td>{''.join(cells)}</tr>")
+    note = ("<p>Lift: a box leaves only after every box above it (the ones directly above are listed; "
+            "the count includes those above them). A side face is free once the boxes touching it have "
+            "left; a face against the source wall is never free." +
+            (" Access rule \"none\": any box may be tipped once lifted." if inst.rules.access == "none" else "") + "</p>")
+    return (note + f"<table><thead><tr><th>box</th><th>directly above</th><th>above in all</th>{head}</tr></thead><tbody>"
+            + "".join(rows) + "</tbody></table>")
 
 
 _CSS = """
@@ -133,6 +143,7 @@ h1 { font-size: 20px; margin: 0 0 4px 0; } h2 { font-size: 16px; }
 #info table { border-collapse: collapse; } #info td { padding: 0 10px 0 0; }
 #violations .violation { color: #000; background: #ffe9a8; border-left: 4px solid #000; padding: 2px 6px; margin: 3px 0; }
 #picture { overflow: auto; }
+#picture svg { max-width: 100%; height: auto; max-height: 85vh; }
 #graph table { border-collapse: collapse; font-size: 13px; }
 #graph td, #graph th { border: 1px solid #ccc; padding: 2px 6px; text-align: left; }
 svg .hidden { display: none; }

@@ -13,6 +13,7 @@ COLOR_BY = ("destination", "step")
 GAP = 36.0  # pixels between panels
 HEADER = 24.0  # pixels above a panel for its title
 MAX_ROW = 1400.0  # pixels before panels wrap to a new row
+MAX_KEYS = 12  # destinations listed in the legend at most
 
 
 def check_color_by(color_by: str) -> str:
@@ -49,7 +50,8 @@ def colours(rp: Replay, color_by: str = "destination") -> Colours:
         for box_id, k in rp.step_of.items():
             key = rp.steps[k - 1].key
             fills[box_id] = palette.destination_colour(index[key])
-        legend = [(palette.destination_colour(n), container_label(key)) for n, key in enumerate(rp.keys)]
+        if len(rp.keys) <= MAX_KEYS:  # beyond that the panel titles name the containers
+            legend = [(palette.destination_colour(n), container_label(key)) for n, key in enumerate(rp.keys)]
     else:
         index = {c.id: n for n, c in enumerate(inst.containers)}
         for b in inst.boxes:
@@ -113,6 +115,12 @@ def choose_scale(widths: list[float], heights: list[float]) -> float:
     each panel at least 200 px wide when that fits."""
     by_width = max(1100.0 / sum(widths), 200.0 / max(widths))
     return min(by_width, 900.0 / max(heights))
+
+
+def vertical_stretch(scale: float, tallest: float, least: float = 48.0) -> float:
+    """Factor by which a 2D picture's vertical axis is stretched so the tallest panel is at
+    least `least` pixels tall (1 for all but very flat data, e.g. 1D bin packing as 2D)."""
+    return max(1.0, least / (tallest * scale))
 
 
 def panel_width(name: str, pixels: float) -> float:
