@@ -165,6 +165,43 @@ def _main_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> 
         run.bounds["milp"] = float(b)
 
 
+def _use_decision(p: Problem) -> bool:
+    strategy = os.environ.get("STACKPROOF_MILP_STRATEGY", "decision")
+    return strategy == "decision" and p.integral_objective and p.instance.objective.minimise == "height"
+
+
+def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> None:
+    """Height on integer data: feasibility models at H = bound, bound + 1, ... below the incumbent.
+
+    Each step caps every open top at the target height (the tightest big-M); an infeasible step
+    proves the bound up by one, a feasible one is optimal because every lower target failed.
+    """
+    p = run.problem
+    cap = _safe_cap(p)
+    while not run.closed() and run.left() > 0.05 and not run.interrupted:
+        target = run.bound
+        if run.upper is None and target > cap:
+            run.bound = math.inf
+            return
+        m = build(p, vcap=target, lower=0.0, upper=target, goal="feasible")
+        out = backends.run(m.lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
+                           log=log, integral=True)
+        run.nodes += out.nodes or 0
+        run.milp_seconds += out.seconds
+        run.interrupted = out.interrupted
+        run.notes.extend(r for r in m.restrictions if r not in run.notes)
+        if out.objective is not None and out.status in ("optimal", "feasible"):
+            if not run.offer(extract_plan(m)):
+                return
+            if run.upper is not None and run.upper > target + 1e-9:
+                return  # the checked plan scores above the target: do not claim more than it shows
+        elif out.status == "infeasible" and m.exact:
+            run.bound = target + 1
+            run.bounds["milp"] = float(run.bound)
+        else:
+            return
+
+
 def _tips_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> tuple[int, bool]:
     """Fewest tipped boxes among plans with the proved main optimum (a second, lexicographic solve)."""
     p = run.problem
@@ -244,7 +281,10 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
         if export_model:
             _export(p, run, export_model)
         if not run.closed() and run.left() > 0.05:
-            _main_stage(run, backend, threads, seed, log)
+            if _use_decision(p):
+                _decision_stage(run, backend, threads, seed, log)
+            else:
+                _main_stage(run, backend, threads, seed, log)
     except KeyboardInterrupt:
         run.interrupted = True
         run.notes.append("interrupted: the best checked plan so far is reported")
