@@ -41,7 +41,8 @@ def test_instance_alone_and_a_result_document(tmp_path, capsys):
     res = tmp_path / "r.json"
     res.write_text(json.dumps(result))
     assert main(["draw", str(inst), str(res), "-o", str(tmp_path / "r.html")]) == 0
-    assert "crate-c" in (tmp_path / "r.html").read_text(encoding="utf-8")
+    html = (tmp_path / "r.html").read_text(encoding="utf-8")
+    assert "crate-c" in html and "status feasible, objective 5, bound 4, gap 20.00%" in html
 
 
 def test_bad_extension_exits_2_naming_the_option(tmp_path):

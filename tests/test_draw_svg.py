@@ -123,8 +123,9 @@ def test_published_perfect_packing_drawn_area(published_dir):
     assert len(polys) == len(inst.boxes) == 16
     marks = groups(root, "height-mark")
     assert len(marks) == 1
-    floor_y, top_y = (float(v) for v in marks[0].get("data-y").split()[:: len(inst.boxes)])
-    scale = (floor_y - top_y) / report.objective
+    dy = [float(v) for v in marks[0].get("data-dy").split()]
+    assert len(dy) == len(plan.moves) + 1 and dy[-1] == 0  # drawn at the final height
+    scale = dy[0] / report.objective  # the floor lies `objective` units below
     assert unary_union(polys).area == pytest.approx(400 * scale**2, rel=1e-3)
     assert report.objective >= 20  # never below the published optimum
 

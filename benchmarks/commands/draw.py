@@ -30,10 +30,10 @@ def run(args: argparse.Namespace) -> int:
     if out.is_dir():
         raise InputError(str(out), [("-o", "is a folder, not a file")])
     instance = read_instance(args.instance)
-    plan = None
+    plan = result = None
     if args.plan is not None:
-        plan, _ = read_plan_or_result(args.plan)
+        plan, result = read_plan_or_result(args.plan)
         validate_plan(instance, plan, file=args.plan)
-    draw(instance, plan, out, color_by=args.color_by)
+    draw(instance, plan, out, color_by=args.color_by, result=result)
     print(f"wrote {out}")
     return 0

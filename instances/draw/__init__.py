@@ -14,7 +14,7 @@ import tempfile
 from pathlib import Path
 from typing import Optional, Union
 
-from ..model import Instance, Plan
+from ..model import Instance, Plan, Result
 from .replay import Replay, replay
 from .shapes import Scene
 from .views import COLOR_BY, check_color_by
@@ -39,14 +39,16 @@ def scene_of(rp: Replay, color_by: str = "destination") -> Scene:
     return build(rp, color_by)
 
 
-def render(instance: Instance, plan: Optional[Plan] = None, fmt: str = "svg", color_by: str = "destination") -> bytes:
-    """The picture or page as bytes in format `fmt` ("svg", "png" or "html")."""
+def render(instance: Instance, plan: Optional[Plan] = None, fmt: str = "svg", color_by: str = "destination",
+           result: Optional[Result] = None) -> bytes:
+    """The picture or page as bytes in format `fmt` ("svg", "png" or "html"); `result` only adds
+    the solver's claims to the page."""
     if fmt not in FORMATS:
         raise ValueError(f"format must be one of {FORMATS}, not {fmt!r}")
     if fmt == "html":
         from .page import page_html
 
-        return page_html(instance, plan, color_by).encode("utf-8")
+        return page_html(instance, plan, color_by, result).encode("utf-8")
     s = scene(instance, plan, color_by)
     if fmt == "svg":
         from .svg import to_svg
@@ -58,7 +60,7 @@ def render(instance: Instance, plan: Optional[Plan] = None, fmt: str = "svg", co
 
 
 def draw(instance: Instance, plan: Optional[Plan] = None, path: PathLike = "drawing.svg",
-         color_by: str = "destination") -> Path:
+         color_by: str = "destination", result: Optional[Result] = None) -> Path:
     """Write the picture (or, for a .html path, the page) of `instance` and `plan` to `path`.
 
     The format follows the file's extension (.svg, .png, .html).
@@ -67,14 +69,15 @@ def draw(instance: Instance, plan: Optional[Plan] = None, path: PathLike = "draw
     fmt = target.suffix.lower().lstrip(".")
     if fmt not in FORMATS:
         raise ValueError(f"{target}: extension must be one of .svg, .png, .html")
-    write_bytes_atomic(target, render(instance, plan, fmt, color_by))
+    write_bytes_atomic(target, render(instance, plan, fmt, color_by, result))
     return target
 
 
-def write_page(instance: Instance, plan: Optional[Plan], path: PathLike, color_by: str = "destination") -> Path:
+def write_page(instance: Instance, plan: Optional[Plan], path: PathLike, color_by: str = "destination",
+               result: Optional[Result] = None) -> Path:
     """Write the self-contained step-through page of `plan` on `instance` to `path`."""
     target = Path(path)
-    write_bytes_atomic(target, render(instance, plan, "html", color_by))
+    write_bytes_atomic(target, render(instance, plan, "html", color_by, result))
     return target
 
 

@@ -14,7 +14,7 @@ from ..precedence import lift_graph
 from . import palette
 from .replay import Key, Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label, rect
-from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, choose_scale, flow, legend, vertical_stretch,
+from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, choose_scale, flow, height_mark_attrs, legend, vertical_stretch,
                     num, panel_name, panel_width, side_arrow, source_size)
 
 
@@ -168,17 +168,12 @@ def _edges(rp: Replay, frame: Frame) -> list[Item]:
 
 def _height_mark(rp: Replay, frame: Frame, key: Key, width: float) -> Group:
     """A dashed line at the container's packed height; the page moves it with the slider."""
-    ys = [frame.px(0, 0)[1]]
-    for s in rp.steps:
-        ys.append(frame.px(0, s.heights.get(key, 0.0))[1])
     final = rp.steps[-1].heights.get(key, 0.0)
+    y = frame.px(0, final)[1]
     x0, x1 = frame.px(0, 0)[0], frame.px(width, 0)[0]
-    items: list[Item] = [Line((x0 - 6, ys[-1]), (x1 + 6, ys[-1]), "#000000", 1, dash="2 2", cls="height-line"),
-                         Text(x1 + 8, ys[-1], num(round(final, 6)), 10, anchor="start", cls="height-text")]
-    attrs = {"class": "height-mark", "data-container": f"{key[0]}#{key[1]}",
-             "data-y": " ".join(f"{y:.2f}" for y in ys),
-             "data-h": " ".join(num(round(v, 6)) for v in [0.0] + [s.heights.get(key, 0.0) for s in rp.steps])}
-    return Group(items, attrs)
+    items: list[Item] = [Line((x0 - 6, y), (x1 + 6, y), "#000000", 1, dash="2 2", cls="height-line"),
+                         Text(x1 + 8, y, num(round(final, 6)), 10, anchor="start", cls="height-text")]
+    return Group(items, height_mark_attrs(rp, key, lambda h: frame.px(0, h)[1] - y))
 
 
 def _shelf(rp: Replay) -> list[tuple[float, float]]:

@@ -17,7 +17,7 @@ from . import palette
 from .replay import Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label
 from .views import (HEADER, Colours, box_attrs, box_title, colours, container_label, container_size, edge_group,
-                    choose_scale, flow, legend, num, panel_name, panel_width, side_arrow,
+                    choose_scale, flow, height_mark_attrs, legend, num, panel_name, panel_width, side_arrow,
                     source_size)
 
 VIEW = (1.0, -1.0, 1.0)  # towards the viewer
@@ -145,6 +145,8 @@ def scene(rp: Replay, color_by: str = "destination") -> Scene:
             box_id, at, ext, step, side = contents[n]
             items.extend(_box(rp, col, frame, box_id, boxes[n][0], boxes[n][1], side, step))
         items.append(front)
+        if kind == "target":
+            items.append(_height_mark(rp, frame, key, size))
         if kind == "source":
             overlay.extend(_edges(rp, frame))
     keys, key_h = legend(col, rp, 20.0, height + 14, max(width - 40, 600.0), edges=inst.source is not None)
@@ -168,6 +170,18 @@ def _outline(frame: Frame, kind: str, key, size: Vec3, open_top: bool) -> tuple[
     back.append(Text(frame.left, frame.top + HEADER / 2, name, 12, anchor="start", weight="bold", cls="panel-title"))
     panel = "source" if kind in ("source", "given") else f"{key[0]}#{key[1]}"
     return Group(back, {"class": "panel", "data-panel": panel}), Group(front, {"class": "panel-front", "data-panel": panel})
+
+
+def _height_mark(rp: Replay, frame: Frame, key, size: Vec3) -> Group:
+    """A dashed rim around the container at its packed height; the page moves it with the slider."""
+    X, Y, _ = size
+    h = rp.steps[-1].heights.get(key, 0.0)
+    rim = [frame.px(p) for p in ((0, 0, h), (X, 0, h), (X, Y, h), (0, Y, h))]
+    items: list[Item] = [Line(a, b, "#000000", 1.2, dash="2 2", cls="height-line") for a, b in zip(rim, rim[1:] + rim[:1])]
+    x, y = rim[2]
+    items.append(Text(x + 6, y, num(round(h, 6)), 10, anchor="start", cls="height-text"))
+    base = frame.px((0, 0, h))[1]
+    return Group(items, height_mark_attrs(rp, key, lambda z: frame.px((0, 0, z))[1] - base))
 
 
 def _box(rp: Replay, col: Colours, frame: Frame, box_id: str, lo: Vec3, hi: Vec3, side: str, step: Optional[Step]) -> list[Group]:

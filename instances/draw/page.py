@@ -15,15 +15,16 @@ from typing import Optional
 import networkx as nx
 
 from ..checker import objective_value
-from ..model import FACES, Instance, Plan
+from ..model import FACES, Instance, Plan, Result
 from ..precedence import face_blockers, lift_graph
 from .replay import Replay, Step, grip_text, replay
 from .svg import to_svg
 from .views import container_label, num
 
 
-def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "destination") -> str:
-    """The whole page as text."""
+def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "destination",
+              result: Optional[Result] = None) -> str:
+    """The whole page as text; `result`, when given, adds what the solver claimed (status, bound, gap)."""
     from . import scene_of
 
     rp = replay(instance, plan)
@@ -51,7 +52,7 @@ def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "
 <style>{_CSS}</style>
 </head>
 <body>
-<header><h1>{title}</h1><p id="summary">{escape(summary(rp))}</p></header>
+<header><h1>{title}</h1><p id="summary">{escape(summary(rp))}</p>{claims_html(result)}</header>
 {controls}
 <section id="info" aria-live="polite"><div id="move"></div><div id="violations"></div></section>
 <div id="picture">{picture}</div>
@@ -76,6 +77,25 @@ def summary(rp: Replay) -> str:
         where = f", first at move {first + 1}" if first is not None else ""
         parts.append(f"plan INFEASIBLE: {len(rp.report.violations)} violation(s){where}")
     return "; ".join(parts)
+
+
+def claims_html(result: Optional[Result]) -> str:
+    """The solver's own account of the plan; the checker's verdict above is what counts."""
+    if result is None:
+        return ""
+    parts = [f"status {result.status}"]
+    for name, value in (("objective", result.objective), ("bound", result.bound)):
+        if value is not None:
+            parts.append(f"{name} {num(value)}")
+    if result.gap is not None:
+        parts.append(f"gap {100 * result.gap:.2f}%")
+    if result.tiebreak is not None:
+        parts.append(f"{result.tiebreak.name} {num(result.tiebreak.value)} ({'proved' if result.tiebreak.proved else 'not proved'})")
+    if result.solver is not None:
+        parts.append(f"solver {result.solver.backend}")
+    notes = "".join(f"<li>{escape(n)}</li>" for n in result.notes)
+    return (f"<p id=\"claims\">Result document: {escape(', '.join(parts))}</p>"
+            + (f"<ul id=\"notes\">{notes}</ul>" if notes else ""))
 
 
 def page_data(rp: Replay) -> dict:
@@ -190,12 +210,10 @@ _JS = r"""
       setShown(g, gone === 0 || gone > k);
     });
     marks.forEach(function (g) {
-      var ys = g.getAttribute("data-y").split(" "), hs = g.getAttribute("data-h").split(" ");
-      var line = g.querySelector("line.height-line"), text = g.querySelector("text.height-text");
-      line.setAttribute("y1", ys[k]); line.setAttribute("y2", ys[k]);
-      text.setAttribute("y", ys[k]); text.textContent = hs[k];
-      var halo = g.querySelector("line.halo");
-      if (halo) { halo.setAttribute("y1", ys[k]); halo.setAttribute("y2", ys[k]); }
+      var dy = g.getAttribute("data-dy").split(" "), hs = g.getAttribute("data-h").split(" ");
+      g.setAttribute("transform", "translate(0," + dy[k] + ")");
+      var text = g.querySelector("text.height-text");
+      if (text) text.textContent = hs[k];
     });
     if (slider) {
       slider.value = String(k);

@@ -275,3 +275,12 @@ def side_arrow(at_j, size_j, at_i, size_i, kind: str, reach: float) -> tuple[tup
     a[axis] = face + side * d  # inside j
     b[axis] = face - side * d  # inside i
     return tuple(a), tuple(b)
+
+
+def height_mark_attrs(rp: Replay, key: Key, offset) -> dict[str, str]:
+    """Attributes of a packed-height mark drawn at the final height: `data-dy` is the vertical
+    pixel shift that puts it at the height after each move (0 = start), `data-h` the height."""
+    heights = [0.0] + [s.heights.get(key, 0.0) for s in rp.steps]
+    return {"class": "height-mark", "data-container": f"{key[0]}#{key[1]}",
+            "data-dy": " ".join(f"{offset(h):.2f}" for h in heights),
+            "data-h": " ".join(num(round(h, 6)) for h in heights)}
