@@ -15,9 +15,10 @@ import signal
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from concurrent.futures import ThreadPoolExecutor, as_completed
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, replace
 from pathlib import Path
 from typing import Callable, Iterator, Optional, Sequence
 
@@ -93,7 +94,7 @@ def solve_isolated(job: dict, wall_limit: float) -> dict:
             json.dump(job, fh)
         env = dict(os.environ)
         env["PYTHONPATH"] = os.pathsep.join([str(REPO_ROOT)] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
-        with open(err_file, "wb") as err:
+        with open(err_file, "wb") as err, _LOCK:
             proc = subprocess.Popen(
                 [sys.executable, "-m", "benchmarks.worker", job_file, out_file],
                 stdin=subprocess.DEVNULL,
@@ -103,12 +104,16 @@ def solve_isolated(job: dict, wall_limit: float) -> dict:
                 cwd=tmp,
                 start_new_session=True,
             )
-            try:
-                code = proc.wait(timeout=wall_limit)
-                killed = False
-            except subprocess.TimeoutExpired:
-                _kill_group(proc)
-                code, killed = proc.wait(), True
+            _LIVE.add(proc)
+        try:
+            code = proc.wait(timeout=wall_limit)
+            killed = False
+        except subprocess.TimeoutExpired:
+            _kill_group(proc)
+            code, killed = proc.wait(), True
+        finally:
+            with _LOCK:
+                _LIVE.discard(proc)
         seconds = time.monotonic() - start
         if killed:
             return {"result": None, "error": f"killed after the hard wall-clock limit of {wall_limit:g} s", "seconds": seconds}
@@ -118,6 +123,18 @@ def solve_isolated(job: dict, wall_limit: float) -> dict:
         with open(err_file, encoding="utf-8", errors="replace") as fh:
             tail = [line.rstrip() for line in fh.read().splitlines() if line.strip()][-1:] or ["no output"]
         return {"result": None, "error": f"solver process exited with code {code}: {tail[0]}", "seconds": seconds}
+
+
+_LIVE: set[subprocess.Popen] = set()  # solve processes started here and still running
+_LOCK = threading.Lock()
+
+
+def kill_live_solves() -> None:
+    """Kill every solve process this process started (an interrupted run leaves none behind)."""
+    with _LOCK:
+        procs = list(_LIVE)
+    for proc in procs:
+        _kill_group(proc)
 
 
 def _kill_group(proc: subprocess.Popen) -> None:
@@ -135,7 +152,7 @@ def make_job(entry: SuiteEntry, config: RunConfig) -> tuple[SuiteEntry, dict]:
     if config.shuffle_seed is not None:
         entry = SuiteEntry(entry.set, entry.name, entry.file, shuffled(entry.instance, config.shuffle_seed))
     job = {
-        "instance": instance_to_dict(entry.instance),
+        "instance": instance_to_dict(replace(entry.instance, known=None)),  # solvers never see the known value
         "solver": config.solver,
         "time_limit": config.time_limit,
         "backend": config.backend,
@@ -304,10 +321,14 @@ class Progress:
 
 def _local(jobs: int) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[int, dict]]]:
     def execute(work: list[tuple[dict, float]]) -> Iterator[tuple[int, dict]]:
-        with ThreadPoolExecutor(max_workers=max(1, jobs)) as pool:
+        pool = ThreadPoolExecutor(max_workers=max(1, jobs))
+        try:
             futures = {pool.submit(solve_isolated, job, wall): k for k, (job, wall) in enumerate(work)}
             for f in as_completed(futures):
                 yield futures[f], f.result()
+        finally:  # also on Ctrl-C or an error: start nothing more, stop what runs
+            pool.shutdown(wait=False, cancel_futures=True)
+            kill_live_solves()
 
     return execute
 

@@ -210,8 +210,10 @@ def test_sigkill_mid_run_then_resume_loses_and_duplicates_nothing(tmp_path):
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline and (not results.exists() or len(results.read_text().splitlines()) < 2):
         time.sleep(0.05)
+    children = child_pids(proc.pid)
     proc.send_signal(signal.SIGKILL)
     proc.wait()
+    assert all_gone(children)  # the solve in flight dies with the runner (no orphans)
     before = results.read_text()
     done_before = len(before.splitlines())
     assert 2 <= done_before < 5
@@ -221,6 +223,48 @@ def test_sigkill_mid_run_then_resume_loses_and_duplicates_nothing(tmp_path):
     assert after.startswith(before)  # nothing lost, nothing rewritten
     keys = [r["key"] for r in lines(results)]
     assert len(keys) == 5 and len(set(keys)) == 5  # nothing duplicated
+
+
+def child_pids(pid: int) -> list[int]:
+    """Processes whose parent is `pid` (Linux /proc; empty elsewhere)."""
+    out = []
+    for stat in Path("/proc").glob("[0-9]*/stat"):
+        try:
+            fields = stat.read_text().rsplit(")", 1)[1].split()
+        except OSError:
+            continue
+        if int(fields[1]) == pid:
+            out.append(int(stat.parent.name))
+    return out
+
+
+def all_gone(pids: list[int], wait: float = 10.0) -> bool:
+    deadline = time.monotonic() + wait
+    while time.monotonic() < deadline:
+        alive = [p for p in pids if Path(f"/proc/{p}").exists() and "Z" not in Path(f"/proc/{p}/stat").read_text().rsplit(")", 1)[1].split()[0]]
+        if not alive:
+            return True
+        time.sleep(0.1)
+    return False
+
+
+@pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="needs Linux /proc")
+def test_interrupt_stops_the_solves_in_flight(tmp_path):
+    suite = write_suite(tmp_path / "s", [strip_instance("a-hang", [(1, 1)] * 2, 2), strip_instance("b-hang", [(1, 1)] * 2, 2)])
+    cmd = [sys.executable, "-m", "benchmarks.cli", "bench", str(suite), "--solver", "tests.test_bench_solvers:hang_solve",
+           "--jobs", "2", "--hard-limit", "120", "--results", str(tmp_path / "r.jsonl"), "--quiet"]
+    proc = subprocess.Popen(cmd, cwd=REPO, env=dict(os.environ, PYTHONPATH=str(REPO)), stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.monotonic() + 30
+    while time.monotonic() < deadline and len(child_pids(proc.pid)) < 2:
+        time.sleep(0.1)
+    children = child_pids(proc.pid)
+    assert len(children) == 2
+    time.sleep(1.0)
+    proc.send_signal(signal.SIGINT)
+    proc.wait(timeout=30)
+    assert proc.returncode != 0
+    assert all_gone(children)
+    assert not (tmp_path / "r.jsonl").exists() or (tmp_path / "r.jsonl").read_text() == ""
 
 
 # ---------------------------------------------------------------- Dask

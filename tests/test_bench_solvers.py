@@ -28,6 +28,8 @@ def area_bound(instance) -> float:
 
 
 def drop_solve(instance, *, time_limit, backend, threads, seed, log=False) -> Result:
+    if instance.known is not None:
+        raise RuntimeError("the runner showed the solver the known value")
     start = time.monotonic()
     plan = drop_plan(instance)
     if plan is None:
