@@ -11,6 +11,7 @@ from shapely.geometry import LineString, box as rect
 
 from instances.checker import check_plan
 from instances.drop import drop_plan
+from instances.generate.features import source_features
 from instances.generate import random_instance
 from instances.io import dumps, instance_from_dict, instance_to_dict
 from instances.model import is_upright, oriented_size
@@ -177,16 +178,9 @@ def test_sizes_follow_the_size_class():
 
 
 def test_flush_blocks_more_faces():
+    """Mean share of side faces blocked at the start, over 8 seeds: flush 1 beats flush 0 by 0.15."""
     def blocked_share(flush):
-        blocked = faces = 0
-        for seed in range(8):
-            inst = random_instance(2, 20, seed, flush=flush, source_ratio=2.0, feasible=False)
-            g = precedence_graph(inst)
-            for b in inst.boxes:
-                kinds = {d["kind"] for _, _, d in g.in_edges(b.id, data=True)} | set(g.nodes[b.id]["wall_blocked"])
-                blocked += len(kinds & {"left", "right"})
-                faces += 2
-        return blocked / faces
+        return sum(source_features(random_instance(2, 20, seed, flush=flush, source_ratio=2.0, feasible=False))["blocked_faces"] for seed in range(8)) / 8
 
     assert blocked_share(1.0) > blocked_share(0.0) + 0.15
 

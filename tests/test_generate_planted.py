@@ -14,6 +14,7 @@ from shapely.geometry import LineString, box as rect
 
 import bounds
 from instances.checker import check_plan
+from instances.generate.features import source_features
 from instances.generate import planted_instance
 from instances.io import dumps, instance_from_dict, instance_to_dict, plan_from_dict, plan_to_dict
 from instances.model import grip_needed, is_upright, oriented_size
@@ -132,16 +133,9 @@ def test_crowded_sources_fall_back_to_upright():
 
 
 def test_flush_blocks_more_faces():
+    """Mean share of side faces blocked at the start, over 8 seeds: flush 1 beats flush 0 by 0.15."""
     def blocked_share(flush):
-        blocked = faces = 0
-        for seed in range(8):
-            inst, _ = planted_instance(2, 20, seed, flush=flush, tipped=0.0, source_ratio=2.0)
-            g = precedence_graph(inst)
-            for b in inst.boxes:
-                kinds = {d["kind"] for _, _, d in g.in_edges(b.id, data=True)} | set(g.nodes[b.id]["wall_blocked"])
-                blocked += len(kinds & {"left", "right"})
-                faces += 2
-        return blocked / faces
+        return sum(source_features(planted_instance(2, 20, seed, flush=flush, tipped=0.0, source_ratio=2.0)[0])["blocked_faces"] for seed in range(8)) / 8
 
     assert blocked_share(1.0) > blocked_share(0.0) + 0.15
 

@@ -1,7 +1,8 @@
 """`stackproof generate {random,planted} ... -o DIR`: write generated instances and a manifest.
 
 Each instance goes to DIR/<name>.json (planted plans to DIR/<name>.plan.json) and DIR/MANIFEST.json
-lists every file with its seed, the parameters and the known optimum. Instance k of --count K
+lists every file with its seed, the parameters, the known optimum and plain difficulty measures
+of its source (`instances.generate.features`). Instance k of --count K
 uses seed S + k. The same arguments give byte-identical files (no clocks, no host names).
 """
 from __future__ import annotations
@@ -13,6 +14,7 @@ from typing import Any
 from instances.errors import InputError
 from instances.generate import planted_instance, random_instance
 from instances.generate.arrangement import DROP_ORDERS
+from instances.generate.features import source_features
 from instances.io import instance_to_dict, plan_to_dict, write_json
 from instances.model import ACCESS_RULES, LOADING_RULES, OBJECTIVES, SUPPORT_RULES, TIEBREAKS
 
@@ -103,6 +105,7 @@ def run(args: argparse.Namespace) -> int:
             entry["plan"] = f"{inst.name}.plan.json"
             write_json(out / entry["plan"], plan_to_dict(plan))
         entry["known"] = None if inst.known is None else inst.known.optimum
+        entry["features"] = {k: round(v, 6) for k, v in source_features(inst).items()}
         entries.append(entry)
     manifest = {
         "generator": args.kind,
