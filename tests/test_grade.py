@@ -4,17 +4,18 @@ from __future__ import annotations
 
 import json
 import sys
-import textwrap
+from dataclasses import replace
 
 import pytest
 
 from benchmarks.cli import main
-from benchmarks.grade import gap_to, gold_value, grade, plans_from_heuristic, summary
+from benchmarks.grade import Graded, gap_to, gold_value, summary
 from benchmarks.published import published_folder
 from benchmarks.runner import RunConfig, run_bench
-from benchmarks.suites import load_suite, select
+from benchmarks.suites import load_suite
 from instances.drop import drop_plan
 from instances.io import plan_to_dict, write_json
+from instances.model import Known
 from tests.test_bench import DROP, strip_instance, write_suite
 
 FOLDER = published_folder()
@@ -113,21 +114,13 @@ def test_gold_kinds_proven_then_known_then_bound(tmp_path):
     assert kind == "bound" and value <= 2  # bounds.best (or no bound at all) without gold records
     gold = run_bench([entry], RunConfig(time_limit=2, solver=DROP), results=tmp_path / "g.jsonl", progress=False)
     assert gold_value(entry, gold) == (2.0, "proven")
-    known = write_suite(tmp_path / "k", [strip_instance("plain", [(1, 1)] * 3, 2, known=None)])
-    (kentry,) = load_suite(known)
-    from dataclasses import replace
-
-    from instances.model import Known
-
-    kentry = replace(kentry, instance=replace(kentry.instance, known=Known(source="by hand", optimum=2)))
+    kentry = replace(entry, instance=replace(entry.instance, known=Known(source="by hand: area bound 2 is reached", optimum=2)))
     assert gold_value(kentry, []) == (2, "known")
+    assert gold_value(kentry, gold) == (2.0, "proven")  # a proven optimum in the gold file comes first
 
 
 def test_gap_and_summary_numbers():
     assert gap_to(4.0, 3.0) == 0.25 and gap_to(0.0, 0.0) == 0.0
-    suite_rows = []
-    from benchmarks.grade import Graded
-
     suite_rows = [Graded("s/a", "a", True, [], 4.0, 3.0, "known", 0.25), Graded("s/b", "b", True, [], 2.0, 2.0, "proven", 0.0),
                   Graded("s/c", "c", False, ["move 0 (x): overlap: boxes overlap"], None, 1.0, "bound", None)]
     s = summary(suite_rows)
