@@ -6,6 +6,7 @@ are drawn over the source, faces against a wall are marked, tipped boxes carry a
 """
 from __future__ import annotations
 
+import math
 from typing import Optional
 
 import networkx as nx
@@ -14,8 +15,8 @@ from ..precedence import lift_graph
 from . import palette
 from .replay import Key, Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label, rect
-from .views import (HEADER, Colours, box_attrs, box_title, edge_group, colours, container_label, container_size, choose_scale, flow, height_mark_attrs, legend, vertical_stretch,
-                    num, panel_name, panel_width, side_arrow, source_size)
+from .views import (HEADER, Colours, box_attrs, box_title, choose_scale, colours, container_size, edge_group, flow,
+                    height_mark_attrs, legend, num, panel_name, panel_width, side_arrow, source_size, vertical_stretch)
 
 
 HEIGHT_LABEL = 46.0  # pixels right of a target panel for its packed height
@@ -96,12 +97,14 @@ def scene(rp: Replay, color_by: str = "destination") -> Scene:
 
 
 def _outline(frame: Frame, kind: str, key, size, open_top: bool, rp: Replay) -> Group:
+    """A panel's background, walls (an open top dashed) and title."""
     w, h = size
     (x0, y0), (x1, y1) = frame.px(0, 0), frame.px(w, h)
     items: list[Item] = [rect(x0, y1, x1 - x0, y0 - y1, fill="#FAFAFA", stroke="none", width=0, cls="floor")]
-    items += [Line((x0, y1), (x0, y0), "#444444", 2), Line((x0, y0), (x1, y0), "#444444", 2),
-              Line((x1, y0), (x1, y1), "#444444", 2),
-              Line((x0, y1), (x1, y1), "#444444", 1 if open_top else 2, dash="4 3" if open_top else None)]
+    if kind != "given":  # boxes with no source stand in no container: no walls
+        items += [Line((x0, y1), (x0, y0), "#444444", 2), Line((x0, y0), (x1, y0), "#444444", 2),
+                  Line((x1, y0), (x1, y1), "#444444", 2),
+                  Line((x0, y1), (x1, y1), "#444444", 1 if open_top else 2, dash="4 3" if open_top else None)]
     name = panel_name(kind, key, open_top)
     items.append(Text(x0, frame.y + HEADER / 2, name, 12, anchor="start", weight="bold", cls="panel-title"))
     attrs = {"class": "panel", "data-panel": "source" if kind in ("source", "given") else f"{key[0]}#{key[1]}"}
@@ -177,15 +180,22 @@ def _height_mark(rp: Replay, frame: Frame, key: Key, width: float) -> Group:
 
 
 def _shelf(rp: Replay) -> list[tuple[float, float]]:
-    """Positions for boxes with no source: a row on the floor, left to right."""
-    gap = max(max(b.size) for b in rp.instance.boxes) * 0.1
-    out, x = [], 0.0
-    for b in rp.instance.boxes:
-        out.append((x, 0.0))
+    """Positions for boxes with no source: rows left to right, rows stacked upwards, gaps between."""
+    boxes = rp.instance.boxes
+    gap = max(max(b.size) for b in boxes) * 0.1
+    rows = max(1, round(math.sqrt(len(boxes)) / 2))
+    row_len = max(max(b.size[0] for b in boxes), sum(b.size[0] + gap for b in boxes) / rows)
+    out, x, y, tallest = [], 0.0, 0.0, 0.0
+    for b in boxes:
+        if x > 0 and x + b.size[0] > row_len:
+            x, y, tallest = 0.0, y + tallest + gap, 0.0
+        out.append((x, y))
         x += b.size[0] + gap
+        tallest = max(tallest, b.size[1])
     return out
 
 
 def _shelf_size(rp: Replay) -> tuple[float, float]:
-    last = _shelf(rp)[-1][0] + rp.instance.boxes[-1].size[0]
-    return last, max(b.size[1] for b in rp.instance.boxes) * 1.08
+    at = _shelf(rp)
+    boxes = rp.instance.boxes
+    return (max(a[0] + b.size[0] for a, b in zip(at, boxes)), max(a[1] + b.size[1] for a, b in zip(at, boxes)) * 1.04)

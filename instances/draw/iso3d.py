@@ -16,9 +16,8 @@ from ..precedence import lift_graph
 from . import palette
 from .replay import Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label
-from .views import (HEADER, Colours, box_attrs, box_title, colours, container_label, container_size, edge_group,
-                    choose_scale, flow, height_mark_attrs, legend, num, panel_name, panel_width, side_arrow,
-                    source_size)
+from .views import (HEADER, Colours, box_attrs, box_title, choose_scale, colours, container_size, edge_group, flow,
+                    height_mark_attrs, legend, num, panel_name, panel_width, side_arrow, source_size)
 
 VIEW = (1.0, -1.0, 1.0)  # towards the viewer
 R2, R6 = math.sqrt(2.0), math.sqrt(6.0)

@@ -202,9 +202,9 @@ def _shift(items: list[Item], dx: float, dy: float) -> list[Item]:
 def box_title(rp: Replay, box_id: str, side: str) -> str:
     """Tooltip text for a box."""
     b = rp.instance.box(box_id)
-    parts = [f"{b.id}: size {' x '.join(_num(v) for v in b.size)}"]
+    parts = [f"{b.id}: size {' x '.join(num(v) for v in b.size)}"]
     if side == "source" and b.at is not None:
-        parts.append(f"at ({', '.join(_num(v) for v in b.at)})")
+        parts.append(f"at ({', '.join(num(v) for v in b.at)})")
     step = rp.step_for(box_id)
     if step is not None:
         parts.append(f"move {step.number} to {container_label(step.key)}, {step.move.orientation}")
@@ -215,14 +215,11 @@ def box_title(rp: Replay, box_id: str, side: str) -> str:
     return "; ".join(parts)
 
 
-def _num(v: Optional[float]) -> str:
+def num(v: Optional[float]) -> str:
+    """A number as people read it (`open` for an open top)."""
     if v is None:
         return "open"
     return f"{v:g}"
-
-
-def num(v: Optional[float]) -> str:
-    return _num(v)
 
 
 def box_attrs(rp: Replay, box_id: str, side: str, step) -> dict[str, str]:
