@@ -20,6 +20,7 @@ def test_planted_writes_instances_plans_and_manifest(tmp_path):
                "--targets", "2", "--tipped", "0.4", "-o", str(out)])
     assert rc == 0
     manifest = json.loads((out / "MANIFEST.json").read_text())
+    assert manifest["format"] == "stackproof/generated" and manifest["version"] == 1
     assert manifest["generator"] == "planted" and manifest["parameters"]["targets"] == 2
     assert [e["seed"] for e in manifest["instances"]] == [5, 6, 7]
     for e in manifest["instances"]:

@@ -21,6 +21,7 @@ from instances.model import ACCESS_RULES, LOADING_RULES, OBJECTIVES, SUPPORT_RUL
 NAME = "generate"
 HELP = "Generate random or planted-optimum instances (reproducible from the seed)."
 MANIFEST = "MANIFEST.json"
+MANIFEST_FORMAT = "stackproof/generated"
 
 # CLI option -> generator keyword, for the options both generators share.
 COMMON = ("width", "depth", "height", "targets", "upright", "flush", "source_ratio", "support", "min_fraction",
@@ -108,6 +109,8 @@ def run(args: argparse.Namespace) -> int:
         entry["features"] = {k: round(v, 6) for k, v in source_features(inst).items()}
         entries.append(entry)
     manifest = {
+        "format": MANIFEST_FORMAT,
+        "version": 1,
         "generator": args.kind,
         "dim": args.dim,
         "boxes": args.boxes,
