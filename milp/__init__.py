@@ -2,6 +2,6 @@
 
 One public entry point: `milp.solve(instance, *, time_limit, backend, threads, seed, log, export_model)`.
 """
-from .solve import solve, validate_options
+from .pipeline import solve, validate_options
 
 __all__ = ["solve", "validate_options"]

@@ -38,10 +38,6 @@ class Model:
     sep: dict = field(default_factory=dict)
 
 
-def _bin(name: str) -> pulp.LpVariable:
-    return pulp.LpVariable(name, cat="Binary")
-
-
 def _const(value) -> bool:
     return not isinstance(value, (pulp.LpVariable, pulp.LpAffineExpression))
 
@@ -65,7 +61,7 @@ class Builder:
                 self.r[i, os_[0]] = 1
             else:
                 for o in os_:
-                    self.r[i, o] = _bin(f"r_{i}_{o}")
+                    self.r[i, o] = self.bin(f"r_{i}_{o}")
                 self.lp += pulp.lpSum(self.r[i, o] for o in os_) == 1, f"one_orientation_{i}"
         # container assignment binaries
         self.a = {}
@@ -75,7 +71,7 @@ class Builder:
                 self.a[i, ks[0]] = 1
             else:
                 for k in ks:
-                    self.a[i, k] = _bin(f"a_{i}_{k}")
+                    self.a[i, k] = self.bin(f"a_{i}_{k}")
                 self.lp += pulp.lpSum(self.a[i, k] for k in ks) == 1, f"one_container_{i}"
         cat = "Integer" if p.instance.rules.integer_positions else "Continuous"
         self.pos = []
@@ -83,14 +79,21 @@ class Builder:
             row = []
             for ax in range(d):
                 hi = max(self.sizes[k][ax] for k in p.slots_of[i]) - p.min_extent(i, ax)
-                row.append(pulp.LpVariable(f"p_{i}_{ax}", lowBound=0, upBound=max(0.0, hi), cat=cat))
+                row.append(self.var(f"p_{i}_{ax}", lowBound=0, upBound=max(0.0, hi), cat=cat))
             self.pos.append(row)
         self.rank = None
         if p.orders_matter():
-            self.rank = [pulp.LpVariable(f"t_{i}", lowBound=0, upBound=p.n - 1) for i in range(p.n)]
+            self.rank = [self.var(f"t_{i}", lowBound=0, upBound=p.n - 1) for i in range(p.n)]
         self.sep: dict = {}
         self.sup: dict = {}
         self.floor: dict = {}
+
+    # ---------------------------------------------------------------- variables
+    def var(self, name: str, lowBound=None, upBound=None, cat: str = "Continuous") -> pulp.LpVariable:
+        return self.lp.add_variable(name, lowBound, upBound, cat=cat)
+
+    def bin(self, name: str) -> pulp.LpVariable:
+        return self.var(name, 0, 1, "Binary")
 
     # ---------------------------------------------------------------- expressions
     def ext(self, i: int, ax: int) -> Expr:
@@ -156,7 +159,7 @@ class Builder:
                     by_grip.setdefault(grip, []).append(o)
             for grip, orients in by_grip.items():
                 faces = p.grip_faces(i, orients[0])
-                g = {f: _bin(f"g_{i}_{f}") for f in faces}
+                g = {f: self.bin(f"g_{i}_{f}") for f in faces}
                 self.lp += (
                     pulp.lpSum(g.values()) >= pulp.lpSum(self.r[i, o] for o in orients),
                     f"grip_{i}_{grip}",
@@ -193,7 +196,7 @@ class Builder:
                         continue
                     if ax == d - 1 and p.instance.rules.loading == "from-above" and (second, first) in p.before:
                         continue  # first below second needs first earlier, but second is fixed earlier
-                    s = _bin(f"s_{first}_{second}_{ax}")
+                    s = self.bin(f"s_{first}_{second}_{ax}")
                     self.sep[first, second, ax] = s
                     seps.append(s)
                     self.lp += (
@@ -233,7 +236,7 @@ class Builder:
 
     def _rests_on(self, i: int, j: int) -> pulp.LpVariable:
         """Binary: j is a supporter of i (same container, j earlier, j's top at i's bottom)."""
-        s = _bin(f"u_{i}_{j}")
+        s = self.bin(f"u_{i}_{j}")
         big = self.vcap_of(i, j)
         z = self.p.dim - 1
         self.lp += self.pos[i][z] - self.top(j) <= big * (1 - s), f"rest_hi_{i}_{j}"
@@ -248,7 +251,7 @@ class Builder:
         return max(self.sizes[k][z] for k in self.p.can_share(i, j))
 
     def _on_floor(self, i: int) -> pulp.LpVariable:
-        f = _bin(f"f_{i}")
+        f = self.bin(f"f_{i}")
         z = self.p.dim - 1
         big = max(self.sizes[k][z] for k in self.p.slots_of[i])
         self.lp += self.pos[i][z] <= big * (1 - f), f"floor_{i}"
@@ -297,7 +300,7 @@ class Builder:
             for corner in range(2 ** h):
                 covers = []
                 for j in cands:
-                    c = _bin(f"k_{i}_{j}_{corner}")
+                    c = self.bin(f"k_{i}_{j}_{corner}")
                     self.lp += c <= rests[j], f"kc_{i}_{j}_{corner}"
                     for ax in range(h):
                         high = (corner >> ax) & 1
@@ -344,7 +347,7 @@ class Builder:
         """Overlap length of i and j along ax (bounded above by its four expressions; 0 unless s)."""
         cap = min(self.p.max_extent(i, ax), self.p.max_extent(j, ax))
         integer = self.p.integral and self.p.dim == 3 and ax == 0
-        ov = pulp.LpVariable(f"o_{i}_{j}_{ax}", lowBound=0, upBound=cap, cat="Integer" if integer else "Continuous")
+        ov = self.var(f"o_{i}_{j}_{ax}", lowBound=0, upBound=cap, cat="Integer" if integer else "Continuous")
         lbl = f"{i}_{j}_{ax}"
         self.lp += ov <= cap * s, f"ov_s_{lbl}"
         # the two reach terms go negative for boxes apart: relax them unless j supports i
@@ -363,8 +366,8 @@ class Builder:
             terms = []
             weighted = []
             for b in range(bits):
-                z = _bin(f"ob_{i}_{j}_{b}")
-                q = pulp.LpVariable(f"oq_{i}_{j}_{b}", lowBound=0, upBound=uy)
+                z = self.bin(f"ob_{i}_{j}_{b}")
+                q = self.var(f"oq_{i}_{j}_{b}", lowBound=0, upBound=uy)
                 self.lp += q <= ov[1], f"oq_y_{i}_{j}_{b}"
                 self.lp += q <= uy * z, f"oq_z_{i}_{j}_{b}"
                 terms.append((2 ** b) * z)
@@ -376,7 +379,7 @@ class Builder:
                 "base-fraction 3D off the unit grid: supported area estimated from below "
                 "(McCormick), so the model may miss some feasible plans"
             )
-        area = pulp.LpVariable(f"oa_{i}_{j}", lowBound=0)
+        area = self.var(f"oa_{i}_{j}", lowBound=0)
         self.lp += area <= ux * ov[1] + uy * ov[0] - ux * uy, f"oa_{i}_{j}"
         return area
 
@@ -407,7 +410,7 @@ class Builder:
     # ---------------------------------------------------------------- objectives
     def packed_height(self, lower: float, upper: float) -> pulp.LpVariable:
         """PROBLEM.md 5 `height`: the largest box top over all containers."""
-        hv = pulp.LpVariable("height", lowBound=lower, upBound=upper)
+        hv = self.var("height", lowBound=lower, upBound=upper)
         for i in range(self.p.n):
             self.lp += self.top(i) <= hv, f"height_{i}"
         return hv
@@ -420,7 +423,7 @@ class Builder:
             members = [i for i in range(self.p.n) if k in self.p.slots_of[i]]
             if not members:
                 continue
-            hk = pulp.LpVariable(f"hk_{k}", lowBound=0, upBound=self.sizes[k][z])
+            hk = self.var(f"hk_{k}", lowBound=0, upBound=self.sizes[k][z])
             for i in members:
                 self.lp += self.top(i) <= hk + self.sizes[k][z] * (1 - self.a[i, k]), f"hk_{k}_{i}"
             hs.append(hk)
@@ -436,7 +439,7 @@ class Builder:
             members = [i for i in range(self.p.n) if k in self.p.slots_of[i]]
             if not members:
                 continue
-            u = _bin(f"used_{k}")
+            u = self.bin(f"used_{k}")
             used[k] = u
             for i in members:
                 self.lp += self.a[i, k] <= u, f"used_{k}_{i}"

@@ -292,8 +292,10 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
         run.notes.append("interrupted: the best checked plan so far is reported")
     tiebreak = None
     seconds = lambda: round(time.perf_counter() - t0, 3)
-    if run.errors and run.best is None:
-        return Result(instance.name, "error", notes=tuple(run.notes + run.errors[:20]), solver=info(), seconds=seconds())
+    if run.errors:
+        # the model produced a plan the checker rejects: no claim about optimality can stand
+        return Result(instance.name, "error", bounds=run.bounds, notes=tuple(run.notes + run.errors[:20]),
+                      solver=info(), seconds=seconds())
     if run.best is None:
         if math.isinf(run.bound):
             run.notes.append("the model has no solution: no plan satisfies every rule")
@@ -314,7 +316,8 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
             tips, proved = run.best.report.tips, False
         tiebreak = TieBreak("tips", float(tips), proved)
     if run.errors:
-        run.notes.extend(run.errors[:20])
+        return Result(instance.name, "error", bounds=run.bounds, notes=tuple(run.notes + run.errors[:20]),
+                      solver=info(), seconds=seconds())
     return Result(
         instance=instance.name,
         status=status,
