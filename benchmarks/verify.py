@@ -60,11 +60,13 @@ def verify(instance: Instance, result: Result) -> Verdict:
     if result.status == "optimal" and objective is not None and result.bound is not None and not close(objective, result.bound, tol):
         problems.append(f"status optimal but objective {objective:g} differs from bound {result.bound:g}")
     gap = relative_gap(objective, result.bound) if objective is not None else None
-    return Verdict(checked, objective, gap, violations, problems, contradictions(instance, result.status, objective, result.bound))
+    found = contradictions(instance, result.status, objective, result.bound, result.bounds)
+    return Verdict(checked, objective, gap, violations, problems, found)
 
 
-def contradictions(instance: Instance, status: str, objective: Optional[float], bound: Optional[float]) -> list[str]:
-    """Disagreements of (status, checked objective, bound) with `instance.known` (empty when none)."""
+def contradictions(instance: Instance, status: str, objective: Optional[float], bound: Optional[float],
+                   named_bounds: Optional[dict[str, float]] = None) -> list[str]:
+    """Disagreements of (status, checked objective, bound, each named bound) with `instance.known`."""
     known = instance.known
     if known is None:
         return []
@@ -84,6 +86,9 @@ def contradictions(instance: Instance, status: str, objective: Optional[float], 
         out.append(f"checked plan with objective {objective:g} beats the known optimum {opt:g}{src}")
     if bound is not None and bound > opt and not close(bound, opt, tol):
         out.append(f"lower bound {bound:g} exceeds the known optimum {opt:g}{src}")
+    for name, value in sorted((named_bounds or {}).items()):
+        if value is not None and value > opt and not close(value, opt, tol):
+            out.append(f"bound {name!r} = {value:g} exceeds the known optimum {opt:g}{src}")
     if status == "infeasible":
         out.append(f"status infeasible, but a plan with objective {opt:g} is known{src}")
     return out

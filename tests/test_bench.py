@@ -125,6 +125,8 @@ def test_contradiction_rules():
     assert any("beats" in c for c in contradictions(inst, "feasible", 4.0, 3.0))
     assert any("exceeds" in c for c in contradictions(inst, "feasible", 7.0, 5.5))
     assert any("infeasible" in c for c in contradictions(inst, "infeasible", None, None))
+    named = contradictions(inst, "feasible", 6.0, 5.0, {"area": 4.0, "dff": 5.5})
+    assert len(named) == 1 and "'dff' = 5.5 exceeds" in named[0]
     none_known = strip_instance("x", [(1, 1)], 1, Known(source="test", infeasible=True))
     assert contradictions(none_known, "infeasible", None, None) == []
     assert contradictions(none_known, "feasible", 3.0, None) != []
