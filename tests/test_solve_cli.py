@@ -1,0 +1,113 @@
+"""`stackproof solve`: the demo, result files, exit codes, bad input, summary line."""
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from benchmarks.cli import main
+from instances.checker import check_plan
+from instances.demo import demo_instance_path
+from instances.io import read_instance, read_result
+from tests.worked_examples import FORMATS_INSTANCE
+
+
+@pytest.fixture
+def formats_file(tmp_path):
+    path = tmp_path / "dock.json"
+    path.write_text(json.dumps(FORMATS_INSTANCE))
+    return path
+
+
+def test_demo_writes_a_checked_result(tmp_path, capsys):
+    out = tmp_path / "demo.result.json"
+    assert main(["solve", "--demo", "-o", str(out), "--time-limit", "60"]) == 0
+    line = capsys.readouterr().out.strip()
+    assert line.startswith("status=optimal") and "gap=0.00%" in line
+    result = read_result(out)
+    inst = read_instance(demo_instance_path())
+    report = check_plan(inst, result.plan)
+    assert report.feasible and report.objective == result.objective
+    assert result.status == "optimal" and result.checked
+
+
+def test_result_document_on_stdout_without_output(formats_file, capsys):
+    assert main(["solve", str(formats_file), "--time-limit", "20"]) == 0
+    captured = capsys.readouterr()
+    doc = json.loads(captured.out)
+    assert doc["format"] == "stackproof/result" and doc["status"] == "optimal" and doc["objective"] == 5
+    assert doc["tiebreak"] == {"name": "tips", "value": 1, "proved": True}
+    assert "status=optimal" in captured.err
+
+
+def test_infeasible_exits_0_with_the_reason(tmp_path, capsys):
+    doc = dict(FORMATS_INSTANCE)
+    doc["containers"] = [{"id": "van-north", "size": [2, None], "count": 1}]  # crate-c (6 wide) fits only tipped
+    doc["boxes"] = [dict(b) for b in doc["boxes"]]
+    doc["boxes"][2]["orientations"] = ["xy"]
+    path = tmp_path / "narrow.json"
+    path.write_text(json.dumps(doc))
+    out = tmp_path / "r.json"
+    assert main(["solve", str(path), "-o", str(out)]) == 0
+    assert "status=infeasible" in capsys.readouterr().out
+    assert read_result(out).status == "infeasible"
+
+
+def test_bad_instance_exits_2_and_writes_nothing(tmp_path, capsys):
+    doc = dict(FORMATS_INSTANCE, dim=4)
+    path = tmp_path / "bad.json"
+    path.write_text(json.dumps(doc))
+    out = tmp_path / "r.json"
+    assert main(["solve", str(path), "-o", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert "bad.json" in err and "dim" in err
+    assert not out.exists()
+
+
+@pytest.mark.parametrize("args, word", [
+    (["--backend", "glpk"], "backend"),
+    (["--time-limit", "-1"], "time_limit"),
+    (["--export-model", "m.txt"], "export_model"),
+])
+def test_bad_options_exit_2(formats_file, tmp_path, capsys, args, word):
+    out = tmp_path / "r.json"
+    assert main(["solve", str(formats_file), "-o", str(out), *args]) == 2
+    assert word in capsys.readouterr().err
+    assert not out.exists()
+
+
+def test_instance_and_demo_together_is_bad_input(formats_file, capsys):
+    assert main(["solve", str(formats_file), "--demo"]) == 2
+    assert main(["solve"]) == 2
+
+
+def test_unknown_exits_3(formats_file, tmp_path, monkeypatch):
+    import milp.pipeline as pipeline
+    from milp.backends import Outcome
+
+    monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
+    monkeypatch.setattr(pipeline.backends, "run", lambda *a, **k: Outcome("unknown", None, None, 0, 0.01))
+    out = tmp_path / "r.json"
+    assert main(["solve", str(formats_file), "-o", str(out), "--time-limit", "1"]) == 3
+    assert read_result(out).status == "unknown"
+
+
+def test_error_exits_1(formats_file, tmp_path, monkeypatch):
+    import milp.pipeline as pipeline
+    from instances.model import Plan
+
+    monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
+    monkeypatch.setattr(pipeline, "extract_plan", lambda m: Plan("dock-7-morning", ()))
+    out = tmp_path / "r.json"
+    assert main(["solve", str(formats_file), "-o", str(out)]) == 1
+    assert read_result(out).status == "error"
+
+
+def test_export_model_and_cbc(formats_file, tmp_path):
+    model = tmp_path / "dock.mps"
+    out = tmp_path / "r.json"
+    assert main(["solve", str(formats_file), "-o", str(out), "--backend", "cbc", "--export-model", str(model),
+                 "--seed", "2", "--threads", "1"]) == 0
+    assert model.read_text().startswith("*") or "ROWS" in model.read_text()
+    result = read_result(out)
+    assert result.solver.backend == "cbc" and result.solver.seed == 2 and result.objective == 5
