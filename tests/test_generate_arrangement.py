@@ -15,7 +15,6 @@ from instances.generate.features import source_features
 from instances.generate import random_instance
 from instances.io import dumps, instance_from_dict, instance_to_dict
 from instances.model import is_upright, oriented_size
-from instances.precedence import precedence_graph
 
 
 def _roundtrip(inst):

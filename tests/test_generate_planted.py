@@ -206,3 +206,11 @@ def test_exhaustive_search_agrees_with_the_planted_optimum(seed):
                                flush=1.0, targets=1 + seed % 2)
     answer = solve_exhaustive(inst)
     assert answer.status == "optimal" and answer.objective == inst.known.optimum
+
+
+def test_default_height_grows_with_the_box_count():
+    """10 wide, 100 boxes over 2 containers: 50 pieces of about 3.33 x 3.33 need height 56."""
+    inst, plan = planted_instance(2, 100, 0, targets=2)
+    assert inst.known.optimum == 56 and len(inst.boxes) == 100
+    assert check_plan(inst, plan).feasible
+    assert planted_instance(2, 8, 0)[0].known.optimum == 10  # few boxes: as tall as wide

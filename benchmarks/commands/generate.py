@@ -55,7 +55,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         p.add_argument("-o", "--out", required=True, metavar="DIR", help="output folder (created if missing)")
         p.add_argument("--width", type=int, default=10, help="target width (x), default 10")
         p.add_argument("--depth", type=int, help="target depth (y, 3D), default the width")
-        p.add_argument("--height", type=int, help="target height; random: open top unless given (bins: the width); planted: the planted height, default the width")
+        p.add_argument("--height", type=int, help="target height; random: open top unless given (bins: the width); planted: the planted height, default the width or taller for many boxes")
         p.add_argument("--targets", type=int, default=1, metavar="T", help="number of destination container types (default 1)")
         p.add_argument("--per-type", dest="count", type=int, metavar="C", help="containers of each type (default 1; random bins: enough for every box)")
         p.add_argument("--upright", type=_share, default=0.0, metavar="SHARE", help="share of 'this side up' boxes (turns about the vertical only)")

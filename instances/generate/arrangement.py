@@ -3,7 +3,7 @@
 Difficulty controls (each a parameter of `random_instance`): a source wider than the target
 (`source_ratio`), stack height (the same ratio: a narrow source stacks high), the order boxes
 were dropped in (`drop_order`: `large-first` puts big boxes at the bottom, so unstacking hands
-over small ones first, the reverse of the usual big-first loading), boxes that fit the target
+over small ones first, the reverse of loading big boxes first, common practice), boxes that fit the target
 only tipped (`must_tip`), "this side up" boxes (`upright`), faces blocked by neighbours or walls
 (`flush`), several destinations in chosen proportions (`targets`, `shares`), and every rule and
 objective variant of PROBLEM.md.

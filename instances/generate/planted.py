@@ -65,7 +65,8 @@ def planted_instance(
     """An instance with a known optimum and the plan that reaches it, reproducible from `seed`.
 
     `targets` container types of `count` containers each (default 1), all `width` x `depth` (3D) with
-    planted height `height` (default `width`); types beyond one make every box a target of its
+    planted height `height` (default: the width, or taller when needed for pieces about a third of
+    the width on a side); types beyond one make every box a target of its
     type. Open-top containers unless the objective is `bins`. `pinwheel` is the chance a cut is
     non-guillotine; `tipped` the share of boxes stored tipped, drawn among boxes a tip reshapes
     (fewer when there are not enough such boxes, or when no source position leaves a grip face
@@ -80,7 +81,7 @@ def planted_instance(
     goal = make_objective(objective, then)
     rng = np.random.default_rng(seed)
     footprint = (width,) if dim == 2 else (width, depth or width)
-    tall = height or width
+    tall = height or default_height(dim, boxes, width, depth or width, targets * count)
     types = type_ids(targets)
     slots = [(t, k) for t in types for k in range(count)]
     per_slot = apportion(boxes, [1.0] * len(slots))
@@ -168,10 +169,18 @@ def _check(dim, boxes, width, depth, height, targets, count, pinwheel, tipped, u
     containers = targets * count
     if boxes < containers:
         raise ValueError(f"boxes ({boxes}) must be at least the number of containers ({containers}): each container is cut into boxes")
-    cells = width * (depth or width if dim == 3 else 1) * (height or width)
+    cells = width * (depth or width if dim == 3 else 1) * (height or default_height(dim, boxes, width, depth or width, containers))
     per = -(-boxes // containers)
     if per > cells:
         raise ValueError(f"{per} boxes do not fit in a container of {cells} unit cells; raise width or height")
+
+
+def default_height(dim: int, boxes: int, width: int, depth: int, containers: int) -> int:
+    """The width, or the height that gives pieces of about a third of the width on each side."""
+    per = -(-boxes // containers)
+    side = max(1.0, width / 3)
+    floor = width * (depth if dim == 3 else 1)
+    return max(width, int(np.ceil(per * side**dim / floor - 1e-9)))
 
 
 def _tip_changes_shape(ext: tuple[int, ...]) -> bool:
