@@ -36,7 +36,7 @@ from instances.model import Instance
 
 from .common import View
 
-PRICING_GRID = 2000
+PRICING_GRID = 4000
 MAX_ROUNDS = 400
 TIME_LIMIT = 10.0
 IMPROVE_EPS = 1e-9
@@ -64,8 +64,22 @@ class _Pricer:
             self.groups[s.box].append(s)
         self.groups = [g for g in self.groups if g]
 
-    def best(self, pi: np.ndarray) -> tuple[float, list[_Slice]]:
-        """The largest sum of pi_i / h over patterns (an upper bound on the real maximum) and a best pattern."""
+    def best(self, pi: np.ndarray) -> tuple[float, list[_Slice], bool]:
+        """(value, pattern, exact): the largest sum of pi_i / h over patterns and a best pattern.
+
+        Dynamic programming on the grid gives an upper bound (grid widths are rounded down).
+        When its pattern does not fit in real widths, an exact branch and bound on the real
+        widths is tried; `exact` says whether the value is the true maximum.
+        """
+        value, pattern = self._grid_best(pi)
+        if sum(s.w for s in pattern) <= self.real_capacity:
+            return value, pattern, True
+        got = _exact_knapsack(self.groups, pi, self.real_capacity)
+        if got is None:
+            return value, [], False
+        return got[0], got[1], True
+
+    def _grid_best(self, pi: np.ndarray) -> tuple[float, list[_Slice]]:
         C = self.capacity
         best = np.zeros(C + 1)
         choices = np.zeros((len(self.groups), C + 1), dtype=np.int16)
@@ -90,6 +104,52 @@ class _Pricer:
                 pattern.append(s)
                 c -= s.g
         return float(best[C]), pattern
+
+
+def _exact_knapsack(groups: list[list[_Slice]], pi: np.ndarray, capacity: float,
+                    max_nodes: int = 200_000) -> Optional[tuple[float, list[_Slice]]]:
+    """Exact multiple-choice knapsack on real widths by depth-first branch and bound (None past max_nodes).
+
+    Bound at a node: the smaller of the sum of the remaining groups' best values and the
+    remaining capacity times the best value per unit width among them.
+    """
+    opts = []
+    for g in groups:
+        o = sorted(((pi[s.box] / s.h, s) for s in g if pi[s.box] > 0), key=lambda t: -t[0])
+        if o:
+            opts.append(o)
+    opts.sort(key=lambda o: -max(v / max(s.w, 1e-300) for v, s in o))
+    n = len(opts)
+    suffix_sum = [0.0] * (n + 1)
+    suffix_ratio = [0.0] * (n + 1)
+    for k in range(n - 1, -1, -1):
+        suffix_sum[k] = suffix_sum[k + 1] + opts[k][0][0]
+        suffix_ratio[k] = max(suffix_ratio[k + 1], max(v / max(s.w, 1e-300) for v, s in opts[k]))
+    best_val, best_set = 0.0, []
+    nodes = 0
+    chosen: list[_Slice] = []
+
+    def dfs(k: int, room: float, val: float) -> bool:
+        nonlocal best_val, best_set, nodes
+        nodes += 1
+        if nodes > max_nodes:
+            return False
+        if val > best_val:
+            best_val, best_set = val, list(chosen)
+        if k == n or val + min(suffix_sum[k], room * suffix_ratio[k]) <= best_val:
+            return True
+        for v, s in opts[k]:
+            if s.w <= room:
+                chosen.append(s)
+                ok = dfs(k + 1, room - s.w, val + v)
+                chosen.pop()
+                if not ok:
+                    return False
+        return dfs(k + 1, room, val)
+
+    if not dfs(0, capacity, 0.0):
+        return None
+    return best_val, best_set
 
 
 def _grid_widths(widths: list[float], capacity: float, spread: float) -> tuple[list[int], int]:
@@ -132,36 +192,40 @@ def bar_bound(instance: Instance, view: Optional[View] = None, objective: Option
     columns: list[list[_Slice]] = [[s] for s in slices]
     seen = {tuple(sorted((s.box, s.ctype, s.w, s.h) for s in col)) for col in columns}
 
-    def rigorous(pi: np.ndarray) -> float:
-        values = np.array([p.best(pi)[0] if p else 0.0 for p in pricers])
+    def price(pi: np.ndarray) -> tuple[float, list]:
+        """Rigorous dual bound for `pi`, and each type's (value, pattern, exact) pricing answer."""
+        answers = [p.best(pi) if p else (0.0, [], True) for p in pricers]
+        values = np.array([a[0] for a in answers])  # upper bounds on the true maxima
         denom = float(values @ counts) if objective == "height" else float(values.max(initial=0.0))
-        return float(pi.sum()) / denom if denom > 0 else 0.0
+        return (float(pi.sum()) / denom if denom > 0 else 0.0), answers
 
     areas = np.array([b.volume for b in instance.boxes])
-    best_bound = rigorous(areas / max(areas.max(), 1e-300))
+    best_bound = price(areas / max(areas.max(), 1e-300))[0]
     converged = False
     for _ in range(MAX_ROUNDS):
-        pi, mu = _solve_master(columns, n, len(types), counts, objective)
+        pi, mu, lp_value = _solve_master(columns, n, len(types), counts, objective)
         if pi is None:
             break
-        best_bound = max(best_bound, rigorous(pi))
-        added = 0
-        for k, pricer in enumerate(pricers):
-            if pricer is None:
-                continue
-            value, pattern = pricer.best(pi)
+        bound_here, answers = price(pi)
+        best_bound = max(best_bound, bound_here)
+        if view.integral_heights and view.round_height(best_bound * (1 - 1e-12)) >= view.round_height(lp_value):
+            converged = True  # the LP optimum is at most lp_value: rounding up cannot gain more
+            break
+        added, unsure = 0, False
+        for k, (value, pattern, exact) in enumerate(answers):
             threshold = mu[k] if objective == "height" else 1.0
-            if value <= threshold + IMPROVE_EPS or not pattern:
+            if pricers[k] is None or value <= threshold + IMPROVE_EPS:
                 continue
-            if sum(s.w for s in pattern) > pricer.real_capacity:
-                continue  # grid rounding made it look feasible; the bound stays valid, just weaker
+            if not pattern:
+                unsure = unsure or not exact  # the grid says maybe, the exact search gave up
+                continue
             key = tuple(sorted((s.box, s.ctype, s.w, s.h) for s in pattern))
             if key not in seen:
                 seen.add(key)
                 columns.append(pattern)
                 added += 1
         if not added:
-            converged = True
+            converged = not unsure
             break
         if time.perf_counter() - start > time_limit:
             break
@@ -170,7 +234,7 @@ def bar_bound(instance: Instance, view: Optional[View] = None, objective: Option
 
 
 def _solve_master(columns: list[list[_Slice]], n: int, n_types: int, counts: np.ndarray, objective: str):
-    """Solve the restricted master LP; return (pi per box, mu per type) or (None, None)."""
+    """Solve the restricted master LP: (pi per box, mu per type, its value), or Nones."""
     m = len(columns)
     cover = np.zeros((n, m))
     for j, col in enumerate(columns):
@@ -192,9 +256,9 @@ def _solve_master(columns: list[list[_Slice]], n: int, n_types: int, counts: np.
         b = -np.ones(n)
     res = linprog(c, A_ub=A, b_ub=b, bounds=(0, None), method="highs")
     if res.status != 0:
-        return None, None
+        return None, None, None
     duals = -np.asarray(res.ineqlin.marginals)
     duals = np.maximum(duals, 0.0)
     if objective == "height":
-        return duals[n_types:], duals[:n_types]
-    return duals, np.zeros(n_types)
+        return duals[n_types:], duals[:n_types], float(res.fun)
+    return duals, np.zeros(n_types), float(res.fun)

@@ -130,19 +130,21 @@ class View:
 
     @cached_property
     def integral_heights(self) -> bool:
-        """True when some optimal plan has integer packed heights, so height bounds may be rounded up.
+        """True when every plan can be matched by one with integer packed heights, so height bounds round up.
 
-        Box tops are bottoms plus sizes. With integer sizes and integer positions they are
-        integers. With loading `any` and support `none`, any packing can be pushed down box by
-        box until each rests on the floor or a box (no rule forbids it and nothing grows), after
-        which every bottom is a sum of box heights: integral too (the normal-pattern argument,
-        Herz 1972; Christofides & Whitlock 1977). Otherwise we do not round.
+        Needs integer box sizes (every extent of every box). Then, by cases of the rules:
+        - support other than `none`: every box stands on the floor or on a supporter's top
+          (PROBLEM.md 4.6), placed earlier, so by induction every bottom is a sum of box heights;
+        - support `none`, loading `any`: push boxes down one by one until each rests on the
+          floor or a box; nothing is violated and nothing grows, and then every bottom is a sum
+          of box heights (the normal-pattern argument, Herz 1972; Christofides & Whitlock 1977);
+        - support `none`, loading `from-above`: the same push-down, lowest bottom first, keeps
+          the vertical order of every pair of boxes with overlapping footprints, so each box can
+          still be lowered from above.
+        Integer positions are not needed. Caveat: a plan that uses the tolerance to sink a box
+        into its supporter can beat a rounded bound by at most (boxes x tolerance).
         """
-        inst = self.instance
-        if not all(float(s).is_integer() for b in inst.boxes for s in b.size):
-            return False
-        rules = inst.rules
-        return rules.integer_positions or (rules.loading == "any" and rules.support.rule == "none")
+        return all(float(s).is_integer() for b in self.instance.boxes for s in b.size)
 
     def round_height(self, value: float) -> float:
         """`value` rounded up when integral heights are implied (with a float-safe margin)."""
