@@ -117,7 +117,9 @@ def _box(rp: Replay, col: Colours, frame: Frame, box_id: str, at, ext, side: str
     fill = col.of(box_id)
     attrs = box_attrs(rp, box_id, side, step)
     bad = "data-bad" in attrs
-    items: list[Item] = [rect(left, top, w, h, fill=fill, stroke=palette.OUTLINE, width=1, cls="body")]
+    # a box whose move broke a rule is see-through, so an overlap shows what lies beneath
+    opacity = 0.7 if bad and side == "target" else 1.0
+    items: list[Item] = [rect(left, top, w, h, fill=fill, stroke=palette.OUTLINE, width=1, cls="body", opacity=opacity)]
     if step is not None and step.tipped:
         t = max(4.0, min(10.0, w / 3, h / 3))
         items.append(Poly([(left + w - t, top), (left + w, top), (left + w, top + t)], fill=palette.OUTLINE, stroke="none", width=0, cls="tip-mark"))

@@ -109,6 +109,7 @@ def page_data(rp: Replay) -> dict:
             "orientation": s.move.orientation,
             "at": [num(v) for v in s.move.at],
             "tip": grip_text(s),
+            "tipped": s.tipped,
             "faces": s.faces,
             "heights": [[container_label(k), num(round(s.heights[k], 9))] for k in rp.keys if k in s.heights],
             "objective": num(round(objective_value(inst, s.heights), 9)) if s.heights else "0",
@@ -235,7 +236,7 @@ _JS = r"""
       box.appendChild(el("p", "Move " + k + ": " + m.box + " to " + m.container + ", orientation " + m.orientation + ", at (" + m.at.join(", ") + ")", "what"));
       box.appendChild(el("p", m.tip, "tip"));
       var faces = Object.keys(m.faces).map(function (f) { return f + ": " + m.faces[f]; }).join("; ");
-      if (faces) box.appendChild(el("p", "Faces when it left the source: " + faces, "faces"));
+      if (faces && m.tipped) box.appendChild(el("p", "Faces when it left the source: " + faces, "faces"));
       var t = el("table", undefined, "heights"), row = el("tr");
       row.appendChild(el("td", "running height:"));
       m.heights.forEach(function (h) { row.appendChild(el("td", h[0] + " = " + h[1])); });
