@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Iterable, Optional
 
-from .runner import is_proven
+from .results import is_proven
 from .verify import close
 
 

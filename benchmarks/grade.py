@@ -20,7 +20,7 @@ from instances.errors import InputError
 from instances.io import read_plan_or_result
 from instances.model import Plan
 
-from .runner import is_proven
+from .results import is_proven
 from .suites import SuiteEntry
 from .verify import close
 

@@ -22,7 +22,7 @@ from instances.io import write_text_atomic
 from instances.model import Instance
 
 from .profiles import performance_profile
-from .runner import is_failure, is_proven
+from .results import is_failure, is_proven
 
 CSV_COLUMNS = (
     "key", "set", "name", "n", "minimise", "status", "objective", "bound", "gap", "checked", "known_optimum",

@@ -9,13 +9,8 @@ skipped, so a killed run resumes and loses nothing.
 from __future__ import annotations
 
 import datetime as _dt
-import json
-import os
-import signal
 import subprocess
 import sys
-import tempfile
-import threading
 import time
 from concurrent.futures import ThreadPoolExecutor, as_completed
 from dataclasses import asdict, dataclass, replace
@@ -25,10 +20,11 @@ from typing import Callable, Iterator, Optional, Sequence
 from instances.io import instance_to_dict, plan_to_dict, result_from_dict
 from instances.model import Result
 
+from .isolate import REPO_ROOT, kill_live_solves, solve_isolated
+from .results import ResultsFile, is_failure, is_proven
 from .suites import SuiteEntry, instance_hash, shuffled
 from .verify import verify
 
-REPO_ROOT = Path(__file__).resolve().parents[1]
 DEFAULT_SOLVER = "milp:solve"
 
 
@@ -76,72 +72,6 @@ def stackproof_version() -> str:
     except (OSError, subprocess.SubprocessError):
         pass
     return "unknown"
-
-
-# ---------------------------------------------------------------- the isolated solve
-
-
-def solve_isolated(job: dict, wall_limit: float) -> dict:
-    """Run one solve in a fresh Python process; kill its process group after `wall_limit` s.
-
-    Returns ``{"result": result document or None, "error": message or None, "seconds": wall}``.
-    Runs anywhere the project is importable (a local thread or a Dask worker).
-    """
-    start = time.monotonic()
-    with tempfile.TemporaryDirectory(prefix="stackproof-job-") as tmp:
-        job_file, out_file, err_file = (os.path.join(tmp, n) for n in ("job.json", "result.json", "stderr.txt"))
-        with open(job_file, "w", encoding="utf-8") as fh:
-            json.dump(job, fh)
-        env = dict(os.environ)
-        env["PYTHONPATH"] = os.pathsep.join([str(REPO_ROOT)] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
-        with open(err_file, "wb") as err, _LOCK:
-            proc = subprocess.Popen(
-                [sys.executable, "-m", "benchmarks.worker", job_file, out_file],
-                stdin=subprocess.DEVNULL,
-                stdout=err,
-                stderr=err,
-                env=env,
-                cwd=tmp,
-                start_new_session=True,
-            )
-            _LIVE.add(proc)
-        try:
-            code = proc.wait(timeout=wall_limit)
-            killed = False
-        except subprocess.TimeoutExpired:
-            _kill_group(proc)
-            code, killed = proc.wait(), True
-        finally:
-            with _LOCK:
-                _LIVE.discard(proc)
-        seconds = time.monotonic() - start
-        if killed:
-            return {"result": None, "error": f"killed after the hard wall-clock limit of {wall_limit:g} s", "seconds": seconds}
-        if code == 0 and os.path.exists(out_file):
-            with open(out_file, encoding="utf-8") as fh:
-                return {"result": json.load(fh), "error": None, "seconds": seconds}
-        with open(err_file, encoding="utf-8", errors="replace") as fh:
-            tail = [line.rstrip() for line in fh.read().splitlines() if line.strip()][-1:] or ["no output"]
-        return {"result": None, "error": f"solver process exited with code {code}: {tail[0]}", "seconds": seconds}
-
-
-_LIVE: set[subprocess.Popen] = set()  # solve processes started here and still running
-_LOCK = threading.Lock()
-
-
-def kill_live_solves() -> None:
-    """Kill every solve process this process started (an interrupted run leaves none behind)."""
-    with _LOCK:
-        procs = list(_LIVE)
-    for proc in procs:
-        _kill_group(proc)
-
-
-def _kill_group(proc: subprocess.Popen) -> None:
-    try:
-        os.killpg(proc.pid, signal.SIGKILL)
-    except (ProcessLookupError, PermissionError):
-        proc.kill()
 
 
 # ---------------------------------------------------------------- records
@@ -214,67 +144,6 @@ def make_record(entry: SuiteEntry, config: RunConfig, outcome: dict, version: st
         "notes": list(result.notes),
         "plan": None if result.plan is None else plan_to_dict(result.plan),
     }
-
-
-def is_failure(record: dict) -> bool:
-    """A record that must fail a CI job: a contradiction or a claim without a checked plan."""
-    return bool(record.get("contradictions") or record.get("problems"))
-
-
-def is_proven(record: dict) -> bool:
-    return record.get("status") == "optimal" and bool(record.get("checked")) and not is_failure(record)
-
-
-# ---------------------------------------------------------------- the results file
-
-
-class ResultsFile:
-    """An append-only JSON-lines file; every line is flushed and fsynced before the next solve counts."""
-
-    def __init__(self, path: Optional[str | Path]):
-        self.path = None if path is None else Path(path)
-
-    def read(self) -> list[dict]:
-        """All complete records; a torn last line (a kill during a write) is dropped from the file."""
-        if self.path is None or not self.path.exists():
-            return []
-        data = self.path.read_bytes()
-        if data and not data.endswith(b"\n"):
-            cut = data.rfind(b"\n") + 1
-            with open(self.path, "r+b") as fh:
-                fh.truncate(cut)
-                fh.flush()
-                os.fsync(fh.fileno())
-            data = data[:cut]
-        out = []
-        for number, line in enumerate(data.decode("utf-8").splitlines(), 1):
-            if line.strip():
-                try:
-                    out.append(json.loads(line))
-                except json.JSONDecodeError as exc:
-                    from instances.errors import InputError
-
-                    raise InputError.one(str(self.path), f"line {number}", f"not a JSON record: {exc.msg}") from None
-        return out
-
-    def append(self, record: dict) -> None:
-        if self.path is None:
-            return
-        self.path.parent.mkdir(parents=True, exist_ok=True)
-        line = json.dumps(record, sort_keys=True, allow_nan=False, separators=(",", ":")) + "\n"
-        with open(self.path, "a", encoding="utf-8") as fh:
-            fh.write(line)
-            fh.flush()
-            os.fsync(fh.fileno())
-
-
-def read_results(path: str | Path) -> list[dict]:
-    """The records of a results file (an InputError when it is missing or damaged)."""
-    from instances.errors import InputError
-
-    if not Path(path).is_file():
-        raise InputError.one(str(path), "$", "results file not found")
-    return ResultsFile(path).read()
 
 
 # ---------------------------------------------------------------- progress

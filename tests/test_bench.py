@@ -20,7 +20,8 @@ import pytest
 from benchmarks.baseline import regressions
 from benchmarks.cli import main
 from benchmarks.published import load_published, published_folder
-from benchmarks.runner import ResultsFile, RunConfig, is_proven, read_results, run_bench
+from benchmarks.results import ResultsFile, is_proven
+from benchmarks.runner import RunConfig, run_bench
 from benchmarks.suites import load_suite, load_suites, select
 from benchmarks.verify import contradictions
 from instances.io import instance_to_dict, write_json

@@ -10,7 +10,8 @@ from instances.errors import InputError
 from ..baseline import regressions
 from ..junit import write_junit
 from ..report import set_summary, write_report
-from ..runner import DEFAULT_SOLVER, RunConfig, is_failure, read_results, run_bench
+from ..results import is_failure, read_results
+from ..runner import DEFAULT_SOLVER, RunConfig, run_bench
 from ..suites import load_suites, select
 
 NAME = "bench"

@@ -11,7 +11,7 @@ import json
 from instances.errors import InputError
 
 from ..grade import grade, plans_from_dir, plans_from_heuristic, summary, table
-from ..runner import read_results
+from ..results import read_results
 from ..suites import load_suites, select
 
 NAME = "grade"
