@@ -19,7 +19,6 @@ from pathlib import Path
 REPO_ROOT = Path(__file__).resolve().parents[1]
 
 
-
 def solve_isolated(job: dict, wall_limit: float) -> dict:
     """Run one solve in a fresh Python process; kill its process group after `wall_limit` s.
 
