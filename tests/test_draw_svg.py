@@ -10,6 +10,8 @@ import xml.etree.ElementTree as ET
 
 import networkx as nx
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from shapely.geometry import Polygon
 from shapely.ops import unary_union
 
@@ -294,3 +296,24 @@ def test_published_1d_bins_drawn_one_panel_per_bin_used(published_dir):
     assert len(panels) == report.objective
     assert len(groups(root, "box", side="target")) == 60
     assert any("vertical scale stretched" in (t.text or "") for t in root.iter(NS + "text"))
+
+
+@settings(max_examples=12, deadline=None)
+@given(dim=st.sampled_from([2, 3]), n=st.integers(2, 12), seed=st.integers(0, 10_000))
+def test_any_generated_plan_draws_each_box_once_per_side(dim, n, seed):
+    """Generated instances with greedy plans: one body per box and side; in 2D, where the
+    checker accepts the plan, no two drawn boxes of a container overlap (shapely)."""
+    inst = random_instance(dim, n, seed)
+    plan = drop_plan(inst)
+    if plan is None:
+        return
+    root = svg_of(inst, plan)
+    for b in inst.boxes:
+        assert len(groups(root, "box", side="source", box=b.id)) == 1
+        assert len(groups(root, "box", side="target", box=b.id)) == 1
+    if dim == 2 and check_plan(inst, plan).feasible:
+        by_container: dict[str, list[Polygon]] = {}
+        for g in groups(root, "box", side="target"):
+            by_container.setdefault(g.get("data-container"), []).append(body(g))
+        for polys in by_container.values():
+            assert unary_union(polys).area == pytest.approx(sum(p.area for p in polys), rel=1e-6)
