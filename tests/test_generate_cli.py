@@ -42,6 +42,7 @@ def test_random_writes_instances_without_plans(tmp_path):
         assert "plan" not in e and e["known"] is None
         inst = read_instance(out / e["file"])
         assert sum(1 for b in inst.boxes if b.target == "dest-1") == 4
+        assert e["features"]["boxes"] == 6 and e["features"]["only_tipped"] == pytest.approx(2 / 6, abs=1e-6)
 
 
 @pytest.mark.parametrize("kind", ["random", "planted"])
@@ -70,7 +71,8 @@ def test_bad_arguments_exit_2_naming_the_option(tmp_path, capsys, extra, option)
     assert not (tmp_path / "x" / "MANIFEST.json").exists()
 
 
-def test_identical_bytes_across_processes_with_different_hash_seeds(tmp_path):
+@pytest.mark.parametrize("kind, extra", [("planted", ["--tipped", "0.5"]), ("random", ["--must-tip", "0.2", "--source-ratio", "2"])])
+def test_identical_bytes_across_processes_with_different_hash_seeds(tmp_path, kind, extra):
     """Set iteration order varies with PYTHONHASHSEED; the output must not."""
     import os
     import subprocess
@@ -80,7 +82,7 @@ def test_identical_bytes_across_processes_with_different_hash_seeds(tmp_path):
     root = Path(__file__).resolve().parents[1]
     for k, hs in enumerate(("1", "2")):
         env = dict(os.environ, PYTHONHASHSEED=hs, PYTHONPATH=str(root))
-        subprocess.run([sys.executable, "-m", "benchmarks.cli", "generate", "planted", "--dim", "3", "--boxes", "10",
-                        "--targets", "2", "--tipped", "0.5", "-o", str(tmp_path / str(k))], check=True, env=env, cwd=root,
+        subprocess.run([sys.executable, "-m", "benchmarks.cli", "generate", kind, "--dim", "3", "--boxes", "10",
+                        "--targets", "2", *extra, "-o", str(tmp_path / str(k))], check=True, env=env, cwd=root,
                        capture_output=True)
     assert _files(tmp_path / "0") == _files(tmp_path / "1")
