@@ -348,6 +348,9 @@ def test_bad_input_exits_2_naming_the_problem(tmp_path, capsys):
     assert main(["bench", str(suite), "--time-limit", "-1"]) == 2
     assert "--time-limit" in capsys.readouterr().err
     assert main(["bench", str(suite), "--filter", "nothing*"]) == 2
+    if HAVE_MILP:
+        assert main(["bench", str(suite), "--backend", "no-such-backend"]) == 2
+        assert "backend" in capsys.readouterr().err
     (tmp_path / "s" / "pair1.json").write_text('{"format": "stackproof/instance", "version": 1, "dim": 2, "boxes": [], "containerz": []}')
     assert main(["bench", str(suite)]) == 2
     assert "containerz" in capsys.readouterr().err

@@ -57,6 +57,11 @@ def run(args: argparse.Namespace) -> int:
     entries = select(load_suites(args.suites), args.filter)
     if not entries:
         raise InputError.one(None, "--filter", "no instance matches")
+    if args.solver == DEFAULT_SOLVER:  # fail fast (exit 2) on options the MILP cannot honour
+        from milp import validate_options
+
+        for e in entries:
+            validate_options(e.instance, args.time_limit, args.backend, args.threads, args.seed, None)
     baseline = read_results(args.baseline) if args.baseline else None
     config = RunConfig(time_limit=args.time_limit, solver=args.solver, backend=args.backend, threads=args.threads,
                        seed=args.seed, shuffle_seed=args.shuffle_seed, hard_limit=args.hard_limit)

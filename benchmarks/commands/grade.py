@@ -20,9 +20,9 @@ HELP = "Grade plans from a folder or a heuristic function against proven optima,
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("suites", nargs="+", metavar="SUITE", help="directory (with or without MANIFEST.json), manifest or instance file")
-    parser.add_argument("--plans", action="append", default=[], metavar="DIR", help="folder of plan (or result) files named after the instances")
+    parser.add_argument("--plans", action="append", default=[], metavar="DIR", help="folder of plan (or result) files named after the instances (repeatable: compares them)")
     parser.add_argument("--heuristic", action="append", default=[], metavar="MODULE:FUNCTION",
-                        help="a function plan(instance) -> Plan in an importable module")
+                        help="a function plan(instance) -> Plan in an importable module (repeatable: compares them)")
     parser.add_argument("--gold", metavar="RESULTS.jsonl", help="bench results whose proven optima serve as the gold standard")
     parser.add_argument("--filter", action="append", metavar="GLOB", help="only instances whose set/name or name matches (repeatable)")
     parser.add_argument("--report", metavar="DIR", help="write grade.csv and grade.html here")
