@@ -16,6 +16,8 @@ from dataclasses import replace
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from benchmarks.baseline import regressions
 from benchmarks.cli import main
@@ -132,6 +134,20 @@ def test_contradiction_rules():
     assert contradictions(none_known, "infeasible", None, None) == []
     assert contradictions(none_known, "feasible", 3.0, None) != []
     assert contradictions(strip_instance("x", [(1, 1)], 1), "optimal", 1.0, 9.0) == []
+
+
+@settings(max_examples=200, deadline=None)
+@given(opt=st.integers(1, 50), obj=st.one_of(st.none(), st.integers(1, 60)), bound=st.one_of(st.none(), st.integers(0, 60)),
+       status=st.sampled_from(["optimal", "feasible", "unknown", "infeasible"]))
+def test_contradiction_exactly_when_inconsistent_with_the_known_optimum(opt, obj, bound, status):
+    inst = strip_instance("x", [(1, 1)], 1, Known(source="property test", optimum=opt))
+    consistent = (
+        (obj is None or obj >= opt)
+        and (bound is None or bound <= opt)
+        and not (status == "optimal" and obj is not None and obj != opt)
+        and status != "infeasible"
+    )
+    assert (contradictions(inst, status, obj, bound) == []) == consistent
 
 
 def test_wrong_known_with_the_stand_in_solver(tmp_path):
