@@ -63,10 +63,16 @@ def depth_order(boxes: Sequence[tuple[Vec3, Vec3]], tol: float = 1e-9) -> list[i
     n = len(boxes)
     key = [sum(v * (l + h) / 2 for v, l, h in zip(VIEW, lo, hi)) for lo, hi in boxes]
     outlines = [silhouette(lo, hi) for lo, hi in boxes]
+    spans = [(min(p[0] for p in o), max(p[0] for p in o), min(p[1] for p in o), max(p[1] for p in o)) for o in outlines]
+    by_left = sorted(range(n), key=lambda i: spans[i][0])
     g = nx.DiGraph()
     g.add_nodes_from(range(n))
-    for a in range(n):
-        for b in range(a + 1, n):
+    for pos, a in enumerate(by_left):  # sweep on screen x: only outlines that share an x range can overlap
+        for b in by_left[pos + 1:]:
+            if spans[b][0] >= spans[a][1]:
+                break
+            if spans[b][2] >= spans[a][3] or spans[a][2] >= spans[b][3]:
+                continue
             if not _convex_overlap(outlines[a], outlines[b], 1e-9):
                 continue
             (la, ha), (lb, hb) = boxes[a], boxes[b]
