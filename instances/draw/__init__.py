@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Optional, Union
 
 from ..model import Instance, Plan, Result
-from .replay import Replay, replay
+from .timeline import Replay, replay
 from .shapes import Scene
 from .views import COLOR_BY, check_color_by
 

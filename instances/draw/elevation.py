@@ -13,7 +13,7 @@ import networkx as nx
 
 from ..precedence import lift_graph
 from . import palette
-from .replay import Key, Replay, Step
+from .timeline import Key, Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label, rect
 from .views import (HEADER, Colours, box_attrs, box_title, choose_scale, colours, container_size, edge_group, flow,
                     height_mark_attrs, legend, num, panel_name, panel_width, side_arrow, source_size, vertical_stretch)

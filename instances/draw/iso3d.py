@@ -14,7 +14,7 @@ import networkx as nx
 
 from ..precedence import lift_graph
 from . import palette
-from .replay import Replay, Step
+from .timeline import Replay, Step
 from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label
 from .views import (HEADER, Colours, box_attrs, box_title, choose_scale, colours, container_size, edge_group, flow,
                     height_mark_attrs, legend, num, panel_name, panel_width, side_arrow, source_size)

@@ -17,7 +17,7 @@ import networkx as nx
 from ..checker import objective_value
 from ..model import FACES, Instance, Plan, Result
 from ..precedence import face_blockers, lift_graph
-from .replay import Replay, grip_text, replay
+from .timeline import Replay, grip_text, replay
 from .svg import to_svg
 from .views import container_label, num
 

@@ -6,7 +6,7 @@ from typing import Optional
 
 from ..model import Instance
 from . import palette
-from .replay import Key, Replay
+from .timeline import Key, Replay
 from .shapes import Group, Item, Line, Poly, Text, rect
 
 COLOR_BY = ("destination", "step")
