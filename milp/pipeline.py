@@ -276,7 +276,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
             run.notes.append(f"a lower bound proves that no plan exists ({which})")
             return Result(instance.name, "infeasible", bounds=run.bounds, notes=tuple(run.notes), solver=info(),
                           seconds=round(time.perf_counter() - t0, 3))
-        budget = min(2.0, 0.05 * time_limit)
+        budget = min(0.5, 0.02 * time_limit)
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
         if export_model:
             _export(p, run, export_model)
