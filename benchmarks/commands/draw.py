@@ -20,7 +20,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("-o", "--output", required=True, metavar="FILE",
                         help="output file; its extension (.svg, .png, .html) picks the format")
     parser.add_argument("--color-by", choices=COLOR_BY, default="destination",
-                        help="colour boxes by destination container (default) or by move number")
+                        help="colour boxes by destination container (default) or by move number (without a plan: by required target type)")
 
 
 def run(args: argparse.Namespace) -> int:
