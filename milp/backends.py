@@ -41,11 +41,10 @@ def backend_version(backend: str) -> str:
 
 
 class _Highs(pulp.HiGHS):
-    """PuLP's HiGHS interface with Ctrl-C handling, a seed, a partial MIP start and run info."""
+    """PuLP's HiGHS interface with Ctrl-C handling, quiet start-up and the run's info kept."""
 
-    def __init__(self, *args, start: Optional[dict] = None, **kwargs):
+    def __init__(self, *args, **kwargs):
         super().__init__(*args, **kwargs)
-        self.start = start or {}
         self.info = None
         self.interrupted = False
         self.model_status = None
@@ -69,13 +68,6 @@ class _Highs(pulp.HiGHS):
 
     def callSolver(self, lp):
         h = lp.solverModel
-        if self.start:
-            idx = [v.index for v in self.start if getattr(v, "index", None) is not None]
-            val = [float(self.start[v]) for v in self.start if getattr(v, "index", None) is not None]
-            if idx:
-                import numpy as np
-
-                h.setSolution(len(idx), np.array(idx, dtype=np.int32), np.array(val, dtype=np.float64))
         try:
             h.HandleKeyboardInterrupt = True
             h.solve()
@@ -90,7 +82,7 @@ class _Highs(pulp.HiGHS):
 
 
 def run(lp: pulp.LpProblem, *, backend: str = "highs", time_limit: float = 60.0, threads: int = 1,
-        seed: int = 0, log: bool = False, start: Optional[dict] = None, integral: bool = False) -> Outcome:
+        seed: int = 0, log: bool = False, integral: bool = False) -> Outcome:
     """Solve `lp` (a minimisation) and report status, objective, proved bound and node count.
 
     `integral`: the objective takes integer values only, so the bound may be rounded up.
@@ -100,15 +92,12 @@ def run(lp: pulp.LpProblem, *, backend: str = "highs", time_limit: float = 60.0,
     if backend == "highs":
         solver = _Highs(
             msg=log, timeLimit=time_limit, threads=threads, gapRel=0.0, gapAbs=0.0 if not integral else 0.999,
-            random_seed=int(seed), start=start,
+            random_seed=int(seed),
         )
     elif backend == "cbc":
-        if start:
-            for v, x in start.items():
-                v.setInitialValue(x)
         solver = pulp.PULP_CBC_CMD(
             msg=log, timeLimit=time_limit, threads=threads, gapRel=0.0, gapAbs=0.0 if not integral else 0.999,
-            warmStart=bool(start), options=[f"randomSeed {int(seed) + 1}", f"randomCbcSeed {int(seed) + 1}"],
+            options=[f"randomSeed {int(seed) + 1}", f"randomCbcSeed {int(seed) + 1}"],
         )
     else:
         raise ValueError(f"unknown backend {backend!r} (choose from {', '.join(BACKENDS)})")
