@@ -14,7 +14,7 @@ from typing import Iterable, Optional, Sequence
 import networkx as nx
 
 from .checker import supporters, support_holds
-from .geometry import Placed, footprints_overlap, volumes_overlap
+from .geometry import Placed, footprints_overlap
 from .model import Instance, Move, Plan, grip_needed
 from .precedence import grip_free, lift_graph, precedence_graph
 
@@ -59,6 +59,7 @@ def _base(size: Sequence[float]) -> float:
 def _best_move(instance: Instance, graph: nx.DiGraph, box_id: str, moved: set[str], containers: dict) -> Optional[Move]:
     box = instance.box(box_id)
     tol = instance.rules.tolerance
+    heights = {k: max(p.top for p in v) for k, v in containers.items() if v}
     best_key, best = None, None
     for orientation in box.orientations:
         grip = grip_needed(orientation)
@@ -73,21 +74,23 @@ def _best_move(instance: Instance, graph: nx.DiGraph, box_id: str, moved: set[st
                     placed = landing(pos, ext, here)
                     if ctype.height is not None and placed.top > ctype.height + tol:
                         continue
-                    if any(volumes_overlap(placed, q, tol) for q in here):
+                    key = _score(instance, heights, (ctype.id, slot), placed, grip is not None)
+                    if best_key is not None and key >= best_key:
                         continue
                     if placed.bottom > tol and instance.rules.support.rule != "none":
                         ok, _ = support_holds(placed, supporters(placed, here, tol), instance.rules.support.rule, instance.rules.support.min_fraction, tol)
                         if not ok:
                             continue
-                    key = _score(instance, containers, (ctype.id, slot), placed, grip is not None)
-                    if best_key is None or key < best_key:
-                        best_key = key
-                        best = Move(box_id, (ctype.id, slot), orientation, placed.pos, grip)
+                    best_key = key
+                    best = Move(box_id, (ctype.id, slot), orientation, placed.pos, grip)
     return best
 
 
 def landing(foot: Sequence[float], ext: Sequence[float], here: Iterable[Placed]) -> Placed:
-    """The box lowered from above at horizontal position `foot`: it sits on the highest top below."""
+    """The box lowered from above at horizontal position `foot`: it sits on the highest top below.
+
+    Nothing packed can then overlap it: any box under its footprint has its top at or below it.
+    """
     probe = Placed("", tuple(foot) + (0.0,), tuple(ext))
     z = max((q.top for q in here if footprints_overlap(probe, q, 0.0)), default=0.0)
     return Placed("", tuple(foot) + (z,), tuple(ext))
@@ -109,8 +112,8 @@ def candidate_positions(instance: Instance, ext: Sequence[float], footprint: Seq
     return [tuple(max(0.0, p) for p in c) for c in product(*axes)]
 
 
-def _score(instance: Instance, containers: dict, key: tuple[str, int], placed: Placed, tipped: bool) -> tuple:
-    heights = {k: max(p.top for p in v) for k, v in containers.items() if v}
+def _score(instance: Instance, heights: dict, key: tuple[str, int], placed: Placed, tipped: bool) -> tuple:
+    """Objective after the move, then the box's top, upright before tipped, lowest-leftmost."""
     new = dict(heights)
     new[key] = max(heights.get(key, 0.0), placed.top)
     kind = instance.objective.minimise
