@@ -87,6 +87,8 @@ class Builder:
         self.sep: dict = {}
         self.sup: dict = {}
         self.floor: dict = {}
+        self.flip_box: Optional[int] = None
+        self.twins: set = set()  # boxes ordered by `identical_boxes` (the mirror must not use them)
 
     # ---------------------------------------------------------------- variables
     def var(self, name: str, lowBound=None, upBound=None, cat: str = "Continuous") -> pulp.LpVariable:
@@ -404,13 +406,46 @@ class Builder:
             groups.setdefault(key, []).append(i)
         z = p.dim - 1
         for members in groups.values():
+            if len(members) > 1:
+                self.twins.update(members)
             for i, j in zip(members, members[1:]):
                 self.lp += self.pos[i][z] <= self.pos[j][z], f"sym_{i}_{j}"
+
+    def mirror_symmetry(self) -> None:
+        """Symmetry: mirroring a container's contents left-right (front-back) keeps every rule.
+
+        Containment, overlap, loading from above and support are mirror-invariant, and the
+        sequence, orientations and grips do not change, so the largest box that has a fixed
+        container may be put in the left (front) half of it. One box per container, never one
+        that `identical_boxes` orders (relabelling twins would undo the mirror). With
+        loading `any`, support `none` and an open top, the strip can be flipped upside down as
+        well (no rule looks at the order then), so that box also sits in the lower half.
+        """
+        p = self.p
+        if p.instance.rules.integer_positions and not p.integral:
+            return  # a mirrored integer position need not be an integer
+        taken: set = set()
+        by_size = sorted(range(p.n), key=lambda i: -p.instance.boxes[i].volume)
+        flip = (p.instance.rules.loading == "any" and p.instance.rules.support.rule == "none"
+                and not p.orders_matter())
+        for i in by_size:
+            ks = p.slots_of[i]
+            if len(ks) != 1 or ks[0] in taken or i in self.twins:
+                continue
+            k = ks[0]
+            taken.add(k)
+            for ax in range(p.dim - 1):
+                self.lp += 2 * self.pos[i][ax] + self.ext(i, ax) <= self.sizes[k][ax], f"mirror_{i}_{ax}"
+            if flip and p.slots[k].size[-1] is None and p.instance.objective.minimise == "height":
+                self.flip_box = i
 
     # ---------------------------------------------------------------- objectives
     def packed_height(self, lower: float, upper: float) -> pulp.LpVariable:
         """PROBLEM.md 5 `height`: the largest box top over all containers."""
         hv = self.var("height", lowBound=lower, upBound=upper)
+        if self.flip_box is not None:  # see mirror_symmetry: the strip may be turned upside down
+            i = self.flip_box
+            self.lp += 2 * self.pos[i][-1] + self.ext(i, self.p.dim - 1) <= hv, "flip"
         for i in range(self.p.n):
             self.lp += self.top(i) <= hv, f"height_{i}"
         return hv
@@ -468,6 +503,7 @@ def build(p: Problem, *, vcap: float, lower: float, upper: float, goal: str = "m
     b.loading_from_above()
     b.support()
     b.identical_boxes()
+    b.mirror_symmetry()
     kind = p.instance.objective.minimise
     if kind == "height":
         main = b.packed_height(lower, upper)
