@@ -7,7 +7,8 @@ instance infeasible (some box fits nowhere, or more containers are needed than e
 
 Names, by objective:
 - height and height-sum: `area`, `tallest`, `stack`, `dff`, `bar` (2D), `order` (with a
-  source and loading `from-above`), and for height-sum with several types `type-sum`;
+  source and loading `from-above`), for height in 2D with integer sizes `contiguous`, and for
+  height-sum with several types `type-sum`;
 - bins: `area`, `dff`, `big-items`, and with several types `type-sum`;
 - `fit` alone when some box fits no allowed container.
 
@@ -35,6 +36,7 @@ from . import bins as _bins
 from . import geometric as _geo
 from .bar import bar_bound
 from .common import BoundValue, View
+from .contiguous import contiguous_bound
 from .order import order_bound, order_per_container
 
 __all__ = ["BoundValue", "all_bounds", "best"]
@@ -49,8 +51,13 @@ def all_bounds(instance: Instance) -> list[BoundValue]:
     stray = view.unplaceable()
     if stray is not None:
         return [BoundValue("fit", math.inf, f"box {stray.id} fits no allowed container in any usable orientation")]
-    out = [_timed(name, fn) for name, fn in _bounds_for(view, objective)]
-    return [b for b in out if b is not None]
+    out = [b for b in (_timed(name, fn) for name, fn in _bounds_for(view, objective)) if b is not None]
+    if objective == "height":
+        lower = max((b.value for b in out), default=0.0)
+        extra = _timed("contiguous", lambda: contiguous_bound(view, lower))
+        if extra is not None:
+            out.append(extra)
+    return out
 
 
 def best(instance: Instance) -> tuple[float, dict[str, float]]:
