@@ -7,7 +7,6 @@ are integers, so rounding up is always valid here.
 from __future__ import annotations
 
 import math
-from typing import Optional
 
 import numpy as np
 

@@ -110,7 +110,7 @@ def _one_container(view: View, ctype: ContainerType, boxes: list[Box], lower: fl
     upper = _greedy_levels(options, W, pairs, horizon)
     lo = int(math.ceil(lower - 1e-9))
     if upper <= lo:
-        return float(upper), "contiguous relaxation: a greedy level packing meets the other bounds"
+        return float(upper), f"contiguous relaxation of the boxes bound for {ctype.id}: met by a greedy level packing"
     T = upper
     cols = []  # (box, w, h, t)
     for i, opts in enumerate(options):

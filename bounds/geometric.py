@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 from itertools import combinations
-from typing import Iterable, Optional
+from typing import Iterable
 
 import networkx as nx
 import numpy as np
@@ -94,7 +94,8 @@ def must_stack(view: View, objective: str) -> tuple[float, str]:
         v = sum(h) if m == 1 else max(h[0], sum(h) / m, h[m - 1] + h[m] if len(h) > m else 0.0)
         total += sum(h)
         if v > best:
-            best, why = v, f"{len(h)} boxes bound for {k.id} cannot stand side by side"
+            best, why = v, (f"{len(h)} boxes bound for {k.id} cannot stand side by side" if len(h) > 1
+                            else f"no two boxes bound for {k.id} must stack; the tallest alone")
     if objective == "height-sum":
         return view.round_height(total), "boxes per type that cannot stand side by side, heights summed over types"
     return view.round_height(best), why

@@ -82,5 +82,4 @@ def _one_container(view: View, ctype: ContainerType, before: dict[str, set[str]]
         over[i] = max([sum(vol[j] for j in succs) / base] + [over[j] + h[j] for j in succs])
     top = max(mine, key=lambda i: under[i] + h[i] + over[i])
     value = under[top] + h[top] + over[top]
-    n = below.in_degree(top) + below.out_degree(top)
-    return value, f"box {top} in {ctype.id}: {below.in_degree(top)} boxes must lie below it, {below.out_degree(top)} above ({n} in its chain)"
+    return value, f"box {top} in {ctype.id}: {below.in_degree(top)} boxes must lie below it, {below.out_degree(top)} above it"

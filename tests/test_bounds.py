@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import replace
-from itertools import combinations, product
+from itertools import combinations
 
 import numpy as np
 import pytest
