@@ -208,10 +208,10 @@ def test_an_independent_solver_agrees_with_the_published_strip_optima():
     pytest.importorskip("ortools")
     # Martello, Monaci & Vigo (2003) INFORMS J. Computing 15(3), fixed orientation (values recalled
     # from memory by the data curator, per MANIFEST.json): ngcut1 = 23, ngcut2 = 30, ngcut3 = 28,
-    # cgcut1 = 23. CP-SAT on the loaded instance must bracket the value: its lower bound <= optimum
-    # <= its best packing (on this machine it proves all four within seconds; the transposed field
-    # order would give other values).
-    for e in load_published(FOLDER, names=["ngcut1", "ngcut2", "ngcut3", "cgcut1"]):
+    # ngcut4 = 20, ngcut12 = 87, cgcut1 = 23, gcut1 = 1016. CP-SAT on the loaded instance must bracket
+    # the value: its lower bound <= optimum <= its best packing (on this machine it proves all of them
+    # within seconds; the transposed field order would give other values).
+    for e in load_published(FOLDER, names=["ngcut1", "ngcut2", "ngcut3", "ngcut4", "ngcut12", "cgcut1", "gcut1"]):
         lower, upper = _cpsat_strip(e.instance, seconds=10.0)
         assert lower - 1e-6 <= e.instance.known.optimum <= upper + 1e-6, (e.name, lower, upper)
 
