@@ -96,6 +96,11 @@ def test_published_subset_reaches_the_published_optima(tmp_path):
     tree = ET.parse(junit)
     assert len(tree.getroot().findall(".//testcase")) == 3
     assert (report / "summary.md").read_text().count("beasley_ngcut") == 1
+    page = (report / "report.html").read_text()
+    pages = sorted((report / "plans").glob("*.html")) if (report / "plans").is_dir() else []
+    assert page.count(">drawing</a>") == len(pages)  # every drawing written is linked
+    for p in pages:
+        assert f"href='plans/{p.name}'" in page
 
 
 @needs_folder
