@@ -236,6 +236,18 @@ def test_relaxing_a_rule_never_worsens_the_optimum(inst):
 # ---------------------------------------------------------------- the two oracles against each other
 
 
+@settings(max_examples=120, deadline=None, database=None, derandomize=True, suppress_health_check=list(HealthCheck))
+@given(tiny_instances(max_boxes=4))
+def test_sequence_and_layout_searches_agree(inst):
+    # two different enumerations (move sequences; final layouts plus a greedy sequencing)
+    a = solve_exhaustive(inst, method="sequence")
+    b = solve_exhaustive(inst, method="layout")
+    assert (a.status, a.objective) == (b.status, b.objective)
+    if inst.objective.then == "tips":
+        assert a.tips == b.tips
+
+
+
 @settings(max_examples=80, deadline=None, database=None, derandomize=True, suppress_health_check=list(HealthCheck))
 @given(tiny_strip_instances())
 def test_cpsat_and_exhaustive_agree_on_strip_packing(inst):

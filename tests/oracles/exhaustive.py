@@ -1,10 +1,15 @@
 """Exhaustive search for tiny unstack-and-pack instances: the reference optimum (n <= 5).
 
-A depth-first search over every move PROBLEM.md allows: which box next (lift predecessors gone),
-its orientation (a tip needs one face of the needed pair free now), its container (targets,
-counts) and its integer position. It reasons about feasibility with its own plain code,
-independent of the MILP and of `instances.precedence`, and then hands every plan it returns to
-`instances.checker.check_plan`, the judge, and asserts that the judge agrees.
+Two searches, tested against each other:
+- "sequence": a depth-first search over every move PROBLEM.md allows: which box next (lift
+  predecessors gone), its orientation (a tip needs one face of the needed pair free now), its
+  container (targets, counts) and its integer position;
+- "layout": every final layout (container, orientation, position of each box), then a greedy
+  that finds a sequence realising it if one exists (exact because every sequence-dependent
+  condition is monotone in the set of boxes already moved; see `_LayoutSearch`).
+Both reason about feasibility with their own plain code, independent of the MILP and of
+`instances.precedence`; every plan they return goes to `instances.checker.check_plan`, the
+judge, and the judge must agree.
 
 Why enumerating integer positions is exact:
 - the instance says `integer_positions: true`, so only integer positions are allowed at all; or
@@ -362,6 +367,11 @@ class _Search:
         if lo[v] == 0 or self.rule == "none":
             return True
         supporters = [(qlo, qhi) for qlo, qhi, _ in here if qhi[v] == lo[v] and self._footprints_meet(lo, ext, qlo, qhi)]
+        return self._supported(lo, hi, ext, supporters)
+
+    def _supported(self, lo, hi, ext, supporters) -> bool:
+        """The support rule for a base at height lo[v] > 0 resting on these supporters' tops."""
+        v = self.v
         if not supporters:
             return False
         if self.rule == "center":
@@ -386,6 +396,106 @@ class _Search:
         return Plan(self.instance.name, tuple(moves))
 
 
+class _LayoutSearch(_Search):
+    """Enumerate final layouts, then decide by a greedy whether some sequence realises them.
+
+    Every move condition of PROBLEM.md section 4 that depends on the sequence is monotone in the
+    set M of boxes moved before the box: lift predecessors in M; a needed face whose touchers
+    are all in M; from above: every box under its footprint in its container in M (the other half
+    of the rule, "no box above it moved yet", is that same pairwise condition seen from the box
+    above); support by the boxes of M whose tops meet its base (more supporters never hurt).
+    So if any sequence works, moving any box whose conditions hold, as long as one exists, never
+    gets stuck: the first box of a working sequence not yet moved always qualifies. The layout
+    is listed once, boxes in order of (bottom, index); each bottom is the floor or the top of a
+    box under its footprint (support rules demand a supporter there; with support `none`,
+    dropping boxes as in the module docstring makes it so), and that box has a lower bottom, so
+    it is already placed.
+    """
+
+    def run(self) -> None:
+        contents: list[list[tuple[tuple[int, ...], tuple[int, ...], int]]] = [[] for _ in self.slots]
+        self.layout: list = [None] * self.n
+        self._place(0, contents, 0, (-1, -1))
+
+    def _place(self, placed: int, contents: list, tips: int, last: tuple[int, int]) -> None:
+        self.nodes += 1
+        if self.nodes > self.max_nodes:
+            raise TooLarge(f"more than {self.max_nodes} search nodes")
+        tip_key = tips if self.count_tips else 0
+        current = self._objective(contents)
+        if (max(current, self.static_lb), tip_key) >= self.best_key:
+            return
+        if placed == (1 << self.n) - 1:
+            order = self._sequence()
+            if order is not None:
+                self.best_key = (current, tip_key)
+                self.best_moves = [(i, self.layout[i][0], self.layout[i][3].orientation, self.layout[i][1]) for i in order]
+            return
+        v = self.v
+        for i in range(self.n):
+            if placed >> i & 1:
+                continue
+            for opt in self.options[i]:
+                child_tips = tips + (opt.grip is not None)
+                for s in self._open_slots(i, contents):
+                    for lo in self._bottoms(i, s, opt.ext, contents, current, child_tips, last):
+                        hi = tuple(p + e for p, e in zip(lo, opt.ext))
+                        contents[s].append((lo, hi, i))
+                        self.layout[i] = (s, lo, hi, opt)
+                        self._place(placed | 1 << i, contents, child_tips, (lo[v], i))
+                        self.layout[i] = None
+                        contents[s].pop()
+
+    def _bottoms(self, i, s, ext, contents, current, child_tips, last) -> Iterator[tuple[int, ...]]:
+        slot = self.slots[s]
+        here = contents[s]
+        v = self.v
+        tip_key = child_tips if self.count_tips else 0
+        for xy in product(*[range(0, w - e + 1) for w, e in zip(slot.size, ext[:v])]):
+            below = {h[v] for lo, h, _ in here if self._footprints_meet(xy, ext, lo, h)}
+            for z in sorted({0, *below}):
+                if (z, i) <= last:
+                    continue  # listed in (bottom, index) order only
+                if (max(self._after(current, here, z + ext[v]), self.static_lb), tip_key) >= self.best_key:
+                    break
+                lo = (*xy, z)
+                hi = tuple(p + e for p, e in zip(lo, ext))
+                if slot.height is not None and hi[v] > slot.height:
+                    break
+                if not any(all(_overlap(lo[k], hi[k], q[k], qh[k]) > 0 for k in range(self.dim)) for q, qh, _ in here):
+                    yield lo
+
+    def _sequence(self) -> Optional[list[int]]:
+        """A sequence realising the layout, by the greedy of the class docstring, or None."""
+        moved, order = 0, []
+        while len(order) < self.n:
+            for i in range(self.n):
+                if not moved >> i & 1 and self._can_move(i, moved):
+                    moved |= 1 << i
+                    order.append(i)
+                    break
+            else:
+                return None
+        return order
+
+    def _can_move(self, i: int, moved: int) -> bool:
+        if not all(moved >> j & 1 for j in self.lift[i]):
+            return False
+        s, lo, hi, opt = self.layout[i]
+        if opt.grip is not None and not self._grip_free(i, opt.grip, moved):
+            return False
+        v = self.v
+        mates = [j for j in range(self.n) if j != i and self.layout[j][0] == s
+                 and self._footprints_meet(lo, opt.ext, self.layout[j][1], self.layout[j][2])]
+        if self.from_above and any(not moved >> j & 1 and self.layout[j][2][v] <= lo[v] for j in mates):
+            return False  # a box under its footprint is not in yet: it could not be lowered past
+        if self.rule == "none" or lo[v] == 0:
+            return True
+        supporters = [(self.layout[j][1], self.layout[j][2]) for j in mates
+                      if moved >> j & 1 and self.layout[j][2][v] == lo[v]]
+        return self._supported(lo, hi, opt.ext, supporters)
+
+
 def _on_top(point, q) -> bool:
     """The point lies on the closed top face of supporter q (edges count)."""
     return all(q[0][k] <= p <= q[1][k] for k, p in enumerate(point))
@@ -406,10 +516,18 @@ def count_tips(plan: Plan) -> int:
     return sum(0 if is_upright(m.orientation) else 1 for m in plan.moves)
 
 
-def solve_exhaustive(instance: Instance, *, max_nodes: int = 2_000_000, check: bool = True) -> Exhaustive:
+METHODS = {"sequence": _Search, "layout": _LayoutSearch}
+
+
+def solve_exhaustive(instance: Instance, *, method: str = "auto", max_nodes: int = 2_000_000,
+                     check: bool = True) -> Exhaustive:
     """The optimum of a tiny integer instance by exhaustive search, with an optimal plan.
 
     Main objective first, then (with `then: tips`) the fewest tips among main optima.
+    `method`: "sequence" searches move sequences literally (fast when loading from above fixes
+    each vertical position); "layout" lists final layouts and finds a sequence greedily (fast
+    when loading `any` lets boxes go in any order); "auto" picks by the loading rule. The two
+    are tested against each other.
     Raises NotExact outside the cases where the enumeration is exact, TooLarge past `max_nodes`.
     With `check`, the plan is handed to `instances.checker.check_plan` and must pass with the
     same objective and tips.
@@ -419,7 +537,9 @@ def solve_exhaustive(instance: Instance, *, max_nodes: int = 2_000_000, check: b
     5
     """
     _check_exact(instance)
-    search = _Search(instance, max_nodes)
+    if method == "auto":
+        method = "layout" if instance.rules.loading == "any" else "sequence"
+    search = METHODS[method](instance, max_nodes)
     search.run()
     plan = search.plan()
     if plan is None:

@@ -25,7 +25,7 @@ SUPPORTS = (
 # Size limits per dimension: (max boxes, box extent range, source width range, container width range)
 LIMITS = {
     2: {"boxes": 5, "extent": (1, 3), "source": (3, 6), "width": (2, 5), "height": (3, 7)},
-    3: {"boxes": 5, "extent": (1, 2), "source": (2, 4), "width": (2, 3), "height": (2, 4)},
+    3: {"boxes": 4, "extent": (1, 2), "source": (2, 4), "width": (2, 3), "height": (2, 4)},
 }
 
 
