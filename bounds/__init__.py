@@ -9,7 +9,7 @@ Names, by objective:
 - height and height-sum: `area`, `tallest`, `stack`, `dff`, `bar` (2D), `order` (with a
   source and loading `from-above`), for height in 2D with integer sizes `contiguous`, and for
   height-sum with several types `type-sum`;
-- bins: `area`, `dff`, `big-items`, and with several types `type-sum`;
+- bins: `area`, `dff`, `half-size`, `big-items`, and with several types `type-sum`;
 - `fit` alone when some box fits no allowed container.
 
 Every bound is a relaxation valid for every feasible plan; rounding up happens only when the
@@ -80,7 +80,7 @@ def _bounds_for(view: View, objective: str) -> list[tuple[str, Callable]]:
         if not _bins.closed(view):
             return []
         out = [("area", lambda: _bins.area(view)), ("dff", lambda: _bins.dual_feasible(view)),
-               ("big-items", lambda: _bins.big_items(view))]
+               ("half-size", lambda: _bins.half_size(view)), ("big-items", lambda: _bins.big_items(view))]
         if len(view.instance.containers) > 1:
             out.append(("type-sum", lambda: _type_sum(view, objective)))
         return out

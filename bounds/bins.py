@@ -12,6 +12,7 @@ import numpy as np
 
 from instances.model import Box, ContainerType
 
+from . import dff as dffs
 from .common import View, ceil_count
 from .geometric import _dff_sum, type_subsets
 
@@ -65,6 +66,48 @@ def dual_feasible(view: View) -> tuple[float, str]:
             total += ceil_count(value)
             parts.append(f"{k.id}: {name}")
     return total, "DFF per type (" + "; ".join(parts) + ")"
+
+
+def half_size(view: View) -> tuple[float, str]:
+    """Items larger than half the container on every axis but one must line up along that axis.
+
+    The L1 idea of Martello & Vigo (1998) for 2D and Martello, Pisinger & Vigo (2000) for 3D:
+    fix an axis c; the boxes longer than half the container on every other axis in every usable
+    orientation cannot be separated along those axes, so those sharing a container lie one
+    after another along c. Their extents along c (smallest over orientations) form a 1D bin
+    packing instance, bounded with the DFF family (which contains the Martello & Toth L2 bound,
+    Fekete & Schepers 2004). Per type, summed over types.
+    """
+    total, parts = 0.0, []
+    for k in view.instance.containers:
+        boxes = view.forced(k)
+        if boxes:
+            v, why = _half_size_type(view, boxes, k)
+            if v > k.count:
+                return math.inf, f"{why}: more than the {k.count} containers of {k.id}"
+            total += v
+            parts.append(f"{k.id}: {why}")
+    return total, "; ".join(parts)
+
+
+def _half_size_type(view: View, boxes: list[Box], ctype: ContainerType) -> tuple[float, str]:
+    dim = view.instance.dim
+    size = ctype.size
+    spread = len(view.instance.boxes) * view.slack
+    best, why = 0.0, "no box is larger than half on the other axes"
+    for c in range(dim):
+        others = [a for a in range(dim) if a != c]
+        line = [min(e[c] for e in view.extents(b, ctype)) for b in boxes
+                if all(e[a] > size[a] / 2 + view.slack for e in view.extents(b, ctype) for a in others)]
+        if not line:
+            continue
+        grid, C = dffs.to_grid(line, size[c], spread, integral=True)
+        x = np.asarray(grid, dtype=np.int64)
+        for name, f in dffs.family(grid, C):
+            v = ceil_count(float(f(x).sum()))
+            if v > best:
+                best, why = v, f"{len(line)} boxes line up along axis {'xyz'[c]} (DFF {name})"
+    return best, why
 
 
 def big_items(view: View) -> tuple[float, str]:

@@ -348,6 +348,17 @@ def test_items_larger_than_half_need_a_bin_each():
     assert named["area"] == 2 and named["big-items"] == 5 and named["dff"] == 5
 
 
+def test_items_larger_than_half_on_all_axes_but_one_line_up():
+    # Hand-worked, in the manner of Martello & Vigo (1998) L1 (2D) and Martello, Pisinger & Vigo (2000)
+    # (3D): 6-wide boxes in 10-wide bins cannot stand side by side, so they stack, at most 3 of height 3
+    # per bin: 7 boxes need 3 bins, while the area bound says 2 (2D) or 1 (3D, 6x6x3 in 10x10x10).
+    assert bounds.best(bins_instance(10, 10, [(6, 3)] * 7))[1]["half-size"] == 3
+    boxes = tuple(Box(f"b{i}", (6.0, 6.0, 3.0), ("xyz",)) for i in range(7))
+    inst = Instance(3, boxes, (ContainerType("bin", (10.0, 10.0, 10.0), 7),), None, CLASSIC, Objective("bins"))
+    named = bounds.best(inst)[1]
+    assert named["half-size"] == 3 and named["area"] == 1
+
+
 def test_big_items_bound_counts_what_cannot_join_the_big_ones():
     # Hand-worked: two 6x6 and four 5x5 items, 10x10 bins. No 5x5 fits beside a 6x6, so the 5x5s
     # need a bin of their own: 2 + 1 = 3 (area: 172/100 -> 2). A plan with 3 bins exists and the
