@@ -26,7 +26,7 @@ from .results import is_failure, is_proven
 
 CSV_COLUMNS = (
     "key", "set", "name", "n", "minimise", "status", "objective", "bound", "gap", "checked", "known_optimum",
-    "contradictions", "problems", "seconds", "config", "version", "solver_version", "time_limit", "seed", "date", "hash",
+    "contradictions", "problems", "seconds", "solve_seconds", "config", "version", "solver_version", "time_limit", "seed", "date", "hash",
 )
 
 
