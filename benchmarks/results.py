@@ -52,6 +52,7 @@ class ResultsFile:
         self.path.parent.mkdir(parents=True, exist_ok=True)
         line = json.dumps(record, sort_keys=True, allow_nan=False, separators=(",", ":")) + "\n"
         with open(self.path, "a", encoding="utf-8") as fh:
+            _lock(fh)  # two runs appending to one file never interleave their lines
             fh.write(line)
             fh.flush()
             os.fsync(fh.fileno())
@@ -62,3 +63,13 @@ def read_results(path: str | Path) -> list[dict]:
     if not Path(path).is_file():
         raise InputError.one(str(path), "$", "results file not found")
     return ResultsFile(path).read()
+
+
+def _lock(fh) -> None:
+    """An exclusive advisory lock until the file is closed (POSIX; a no-op elsewhere)."""
+    try:
+        import fcntl
+
+        fcntl.flock(fh.fileno(), fcntl.LOCK_EX)
+    except (ImportError, OSError):
+        pass
