@@ -224,6 +224,23 @@ def test_torn_last_line_is_dropped_on_resume(tmp_path):
     assert results.read_text() == '{"run_key": "a", "key": "s/a"}\n'
 
 
+@settings(max_examples=40, deadline=None)
+@given(records=st.lists(st.dictionaries(st.sampled_from(["a", "b", "c"]), st.one_of(st.integers(), st.text(max_size=8))), min_size=1, max_size=4),
+       cut=st.floats(0.0, 1.0))
+def test_a_file_torn_anywhere_keeps_exactly_its_complete_records(tmp_path_factory, records, cut):
+    path = tmp_path_factory.mktemp("torn") / "r.jsonl"
+    store = ResultsFile(path)
+    for r in records:
+        store.append(r)
+    data = path.read_bytes()
+    at = int(cut * len(data))
+    path.write_bytes(data[:at])
+    complete = data[:at].count(b"\n")
+    assert store.read() == records[:complete]
+    store.append({"a": "next"})
+    assert store.read() == records[:complete] + [{"a": "next"}]
+
+
 def test_sigkill_mid_run_then_resume_loses_and_duplicates_nothing(tmp_path):
     suite = small_suite(tmp_path / "s", 5)
     results = tmp_path / "r.jsonl"
