@@ -39,6 +39,7 @@ from .common import View
 PRICING_GRID = 4000
 MAX_ROUNDS = 400
 TIME_LIMIT = 10.0
+MAX_BOXES_3D = 40
 IMPROVE_EPS = 1e-9
 
 
@@ -107,11 +108,13 @@ class _Pricer:
 
 
 def _exact_knapsack(groups: list[list[_Slice]], pi: np.ndarray, capacity: float,
-                    max_nodes: int = 200_000) -> Optional[tuple[float, list[_Slice]]]:
+                    max_nodes: int = 200_000, conflicts: Optional[set[tuple[int, int]]] = None,
+                    ) -> Optional[tuple[float, list[_Slice]]]:
     """Exact multiple-choice knapsack on real widths by depth-first branch and bound (None past max_nodes).
 
     Bound at a node: the smaller of the sum of the remaining groups' best values and the
-    remaining capacity times the best value per unit width among them.
+    remaining capacity times the best value per unit width among them (conflicts ignored).
+    `conflicts` holds pairs of boxes (smaller index first) that may not share a pattern.
     """
     opts = []
     for g in groups:
@@ -139,7 +142,8 @@ def _exact_knapsack(groups: list[list[_Slice]], pi: np.ndarray, capacity: float,
         if k == n or val + min(suffix_sum[k], room * suffix_ratio[k]) <= best_val:
             return True
         for v, s in opts[k]:
-            if s.w <= room:
+            if s.w <= room and not (conflicts and any((min(s.box, c.box), max(s.box, c.box)) in conflicts
+                                                      for c in chosen)):
                 chosen.append(s)
                 ok = dfs(k + 1, room - s.w, val + v)
                 chosen.pop()
@@ -152,6 +156,34 @@ def _exact_knapsack(groups: list[list[_Slice]], pi: np.ndarray, capacity: float,
     return best_val, best_set
 
 
+def _root_bound(groups: list[list[_Slice]], pi: np.ndarray, capacity: float) -> float:
+    """A valid upper bound on any pattern's value: min(sum of best values, capacity x best ratio)."""
+    best_values = [max((pi[s.box] / s.h for s in g), default=0.0) for g in groups]
+    ratio = max((pi[s.box] / s.h / max(s.w, 1e-300) for g in groups for s in g), default=0.0)
+    return min(sum(max(v, 0.0) for v in best_values), capacity * max(ratio, 0.0))
+
+
+class _AreaPricer:
+    """3D patterns relaxed: footprint areas add up to at most the base, no two boxes that cannot
+    stand side by side. Every real cross-section is such a set, so the bound stays valid."""
+
+    def __init__(self, slices: list[_Slice], n_boxes: int, capacity: float, conflicts: set[tuple[int, int]],
+                 max_nodes: int = 20_000):
+        self.real_capacity = capacity
+        self.conflicts = conflicts
+        self.max_nodes = max_nodes
+        groups: list[list[_Slice]] = [[] for _ in range(n_boxes)]
+        for s in slices:
+            groups[s.box].append(s)
+        self.groups = [g for g in groups if g]
+
+    def best(self, pi: np.ndarray) -> tuple[float, list[_Slice], bool]:
+        got = _exact_knapsack(self.groups, pi, self.real_capacity, self.max_nodes, self.conflicts)
+        if got is None:
+            return _root_bound(self.groups, pi, self.real_capacity), [], False
+        return got[0], got[1], True
+
+
 def _grid_widths(widths: list[float], capacity: float, spread: float) -> tuple[list[int], int]:
     if float(capacity).is_integer() and spread < 1 and all(float(w).is_integer() for w in widths):
         return [int(w) for w in widths], int(capacity)
@@ -161,7 +193,11 @@ def _grid_widths(widths: list[float], capacity: float, spread: float) -> tuple[l
 
 def bar_bound(instance: Instance, view: Optional[View] = None, objective: Optional[str] = None,
               time_limit: float = TIME_LIMIT) -> Optional[tuple[float, bool]]:
-    """(bound, converged) of the bar relaxation for a 2D instance, or None when it does not apply.
+    """(bound, converged) of the bar relaxation, or None when it does not apply.
+
+    In 3D the cross-section at a level is a 2D packing; patterns are relaxed to sets of boxes
+    whose footprint areas fit the base and of which no two must stack (see `_AreaPricer`),
+    for instances of at most MAX_BOXES_3D boxes.
 
     `objective` is `height` or `height-sum` (default: the instance's). `converged` tells whether
     column generation proved the LP optimum (otherwise the value is still a valid bound).
@@ -171,7 +207,9 @@ def bar_bound(instance: Instance, view: Optional[View] = None, objective: Option
     """
     view = view or View(instance)
     objective = objective or instance.objective.minimise
-    if instance.dim != 2 or objective not in ("height", "height-sum") or not instance.boxes:
+    if objective not in ("height", "height-sum") or not instance.boxes:
+        return None
+    if instance.dim == 3 and len(instance.boxes) > MAX_BOXES_3D:
         return None
     if view.unplaceable() is not None:
         return math.inf, True
@@ -182,12 +220,21 @@ def bar_bound(instance: Instance, view: Optional[View] = None, objective: Option
     slices: list[_Slice] = []
     pricers: list[Optional[_Pricer]] = []
     for k, ctype in enumerate(types):
-        W = ctype.size[0]
         raw = [(i, e) for i, b in enumerate(instance.boxes) if ctype in view.types_of(b) for e in view.extents(b, ctype)]
-        grid, cap = _grid_widths([e[0] for _, e in raw], W, spread)
-        mine = [_Slice(i, k, e[0], g, e[1]) for (i, e), g in zip(raw, grid)]
+        if instance.dim == 2:
+            W = ctype.size[0]
+            grid, cap = _grid_widths([e[0] for _, e in raw], W, spread)
+            mine = [_Slice(i, k, e[0], g, e[1]) for (i, e), g in zip(raw, grid)]
+            pricers.append(_Pricer(mine, n, cap, W + spread) if mine else None)
+        else:
+            mine = [_Slice(i, k, e[0] * e[1], 0, e[2]) for i, e in raw]
+            boxes = instance.boxes
+            members = sorted({i for i, _ in raw})
+            conflicts = {(a, b) for a in members for b in members
+                         if a < b and not view.can_stand_beside(boxes[a], boxes[b], ctype)}
+            base = (ctype.size[0] + spread) * (ctype.size[1] + spread)
+            pricers.append(_AreaPricer(mine, n, base, conflicts) if mine else None)
         slices += mine
-        pricers.append(_Pricer(mine, n, cap, W + spread) if mine else None)
     counts = np.array([t.count for t in types], dtype=float)
     columns: list[list[_Slice]] = [[s] for s in slices]
     seen = {tuple(sorted((s.box, s.ctype, s.w, s.h) for s in col)) for col in columns}

@@ -250,6 +250,51 @@ def test_bar_bound_is_never_below_the_area_bound(width, sizes, rotate, objective
         assert named["bar"] >= named["tallest"] - 1e-9, named
 
 
+def full_relaxed_bar_lp_3d(inst):
+    """The 3D bar LP with relaxed patterns (footprint areas within the base, no pair that can never
+    stand side by side), every pattern written out, solved by scipy's HiGHS."""
+    L, W = inst.containers[0].size[:2]
+    slices = [(i, b.extents(o)) for i, b in enumerate(inst.boxes) for o in b.orientations
+              if b.extents(o)[0] <= L and b.extents(o)[1] <= W]
+    exts = {i: [e for k, e in slices if k == i] for i in range(len(inst.boxes))}
+
+    def beside(a, b):
+        return any(ea[0] + eb[0] <= L or ea[1] + eb[1] <= W for ea in exts[a] for eb in exts[b])
+
+    n = len(inst.boxes)
+    patterns = []
+    for r in range(1, n + 1):
+        for combo in combinations(range(len(slices)), r):
+            who = [slices[j][0] for j in combo]
+            if len(set(who)) < r or sum(slices[j][1][0] * slices[j][1][1] for j in combo) > L * W:
+                continue
+            if all(beside(a, b) for a, b in combinations(who, 2)):
+                patterns.append(combo)
+    A = np.zeros((n, len(patterns)))
+    for p, combo in enumerate(patterns):
+        for j in combo:
+            i, ext = slices[j]
+            A[i, p] += 1.0 / ext[2]
+    res = linprog(np.ones(len(patterns)), A_ub=-A, b_ub=-np.ones(n), bounds=(0, None), method="highs")
+    assert res.status == 0
+    return res.fun
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(2, 5), st.integers(2, 5),
+       st.lists(st.tuples(st.integers(1, 4), st.integers(1, 4), st.integers(1, 3)), min_size=1, max_size=4),
+       st.booleans())
+def test_3d_bar_bound_equals_the_full_relaxed_lp_solved_by_scipy(L, W, sizes, rotate):
+    sizes = [(min(a, L), min(b, W), h) for a, b, h in sizes]
+    orients = all_orientations(3) if rotate else ("xyz",)
+    boxes = tuple(Box(f"b{i}", tuple(map(float, s)), orients) for i, s in enumerate(sizes))
+    boxes += (Box("tiny", (1.0, 1.0, 1 / 1024), ("xyz",)),)  # stops the rounding: raw LP values compared
+    inst = Instance(3, boxes, (ContainerType("van", (float(L), float(W), None)),), None, CLASSIC, Objective("height-sum"))
+    value, converged = bar_bound(inst)
+    assume(converged)
+    assert value == pytest.approx(full_relaxed_bar_lp_3d(inst), rel=1e-4)
+
+
 def test_bar_worked_example_boxes_that_cannot_stand_side_by_side():
     # Hand-worked: 2x3 and 2x1 in a strip of width 3 cannot stand side by side, so the bar LP
     # stacks them (3 + 1 = 4), while the area bound gives only 8/3 (rounded: 3).
