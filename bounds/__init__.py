@@ -6,7 +6,7 @@ largest value and all values by name. A value of `math.inf` means the bounds pro
 instance infeasible (some box fits nowhere, or more containers are needed than exist).
 
 Names, by objective:
-- height and height-sum: `area`, `tallest`, `stack`, `dff`, `bar` (2D), `order` (with a
+- height and height-sum: `area`, `tallest`, `stack`, `dff`, `bar` (3D: up to 40 boxes), `order` (with a
   source and loading `from-above`), for height in 2D with integer sizes `contiguous`, and for
   height-sum with several types `type-sum`;
 - bins: `area`, `dff`, `half-size`, `big-items`, and with several types `type-sum`;

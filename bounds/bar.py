@@ -1,4 +1,4 @@
-"""The one-dimensional contiguous ("bar") relaxation of 2D strip packing, by column generation.
+"""The bar relaxation of strip packing (2D; relaxed in 3D), by column generation.
 
 Cut a feasible 2D packing at any height: the boxes crossing that level form a *pattern*, a
 set of boxes (each at most once, in one orientation) whose widths add up to at most the
@@ -21,6 +21,9 @@ type-k patterns, weak duality gives H >= sum pi / sum_k count_k V_k (height) and
 sum of heights >= sum pi / max_k V_k (height-sum). V_k is computed by dynamic programming on
 widths rounded down to a grid, which can only overestimate it, so the bound is rigorous at
 every iteration, and the best one seen (including the area duals we start from) is returned.
+
+In 3D a cross-section is a 2D packing, which is hard to price exactly; patterns are relaxed
+to sets whose footprint areas fit the base and of which no two must stack (`_AreaPricer`).
 """
 from __future__ import annotations
 
