@@ -499,3 +499,12 @@ def test_3d_must_stack_and_dff_worked_example():
     assert named["stack"] == 7 and named["area"] == 4
     assert named["dff"] == 7  # U(lambda=2) on both axes counts every box fully: 2 + 2 + 2 + 1
     assert solve_exhaustive(inst).objective == 7
+
+
+def test_docstring_examples_run():
+    import doctest
+
+    import bounds as package
+
+    result = doctest.testmod(package)
+    assert result.attempted > 0 and result.failed == 0
