@@ -330,15 +330,15 @@ def dumps(doc: Any) -> str:
     return json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def write_text_atomic(path: PathLike, text: str) -> None:
-    """Write `text` so that `path` is either untouched or complete: temp file, fsync, rename."""
+def write_bytes_atomic(path: PathLike, data: bytes) -> None:
+    """Write `data` so that `path` is either untouched or complete: temp file, fsync, rename."""
     target = Path(path)
     directory = target.parent if str(target.parent) else Path(".")
     directory.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=directory)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, target)
@@ -348,6 +348,11 @@ def write_text_atomic(path: PathLike, text: str) -> None:
         except FileNotFoundError:
             pass
         raise
+
+
+def write_text_atomic(path: PathLike, text: str) -> None:
+    """Write UTF-8 `text` atomically (see write_bytes_atomic)."""
+    write_bytes_atomic(path, text.encode("utf-8"))
 
 
 def write_json(path: PathLike, doc: Any) -> None:

@@ -10,10 +10,10 @@ Every file is written atomically (temp file in the same folder, then rename).
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 from typing import Optional, Union
 
+from ..io import write_bytes_atomic
 from ..model import Instance, Plan, Result
 from .timeline import Replay, replay
 from .shapes import Scene
@@ -79,22 +79,3 @@ def write_page(instance: Instance, plan: Optional[Plan], path: PathLike, color_b
     target = Path(path)
     write_bytes_atomic(target, render(instance, plan, "html", color_by, result))
     return target
-
-
-def write_bytes_atomic(path: Path, data: bytes) -> None:
-    """Write `data` so that `path` is either untouched or complete: temp file, fsync, rename."""
-    directory = path.parent if str(path.parent) else Path(".")
-    directory.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=directory)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
