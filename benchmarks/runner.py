@@ -58,20 +58,21 @@ class RunConfig:
 
 
 def stackproof_version() -> str:
-    """The package version if installed, else the git commit of the working tree, else 'unknown'."""
+    """The package version, with the git commit of the working tree when there is one
+    (`0.1.0+git-1a2b3c4`), so that runs of different code are told apart."""
     try:
         from importlib.metadata import version
 
-        return version("stackproof")
+        text = version("stackproof")
     except Exception:
-        pass
+        text = "unknown"
     try:
         out = subprocess.run(["git", "-C", str(REPO_ROOT), "rev-parse", "--short", "HEAD"], capture_output=True, text=True, timeout=5)
         if out.returncode == 0 and out.stdout.strip():
-            return "git-" + out.stdout.strip()
+            text += "+git-" + out.stdout.strip()
     except (OSError, subprocess.SubprocessError):
         pass
-    return "unknown"
+    return text
 
 
 # ---------------------------------------------------------------- records
@@ -92,9 +93,9 @@ def make_job(entry: SuiteEntry, config: RunConfig) -> tuple[SuiteEntry, dict]:
     return entry, job
 
 
-def run_key(instance_hash_: str, config: RunConfig) -> str:
-    """What makes two records "the same run" for resuming: instance content and configuration."""
-    return f"{instance_hash_}|{config.solver}|{config.backend}|{config.time_limit:g}|{config.seed}|{config.threads}|{config.shuffle_seed}"
+def run_key(key: str, instance_hash_: str, config: RunConfig) -> str:
+    """What makes two records "the same run" for resuming: name, instance content and configuration."""
+    return f"{key}|{instance_hash_}|{config.solver}|{config.backend}|{config.time_limit:g}|{config.seed}|{config.threads}|{config.shuffle_seed}"
 
 
 def make_record(entry: SuiteEntry, config: RunConfig, outcome: dict, version: str) -> dict:
@@ -114,7 +115,7 @@ def make_record(entry: SuiteEntry, config: RunConfig, outcome: dict, version: st
         "name": entry.name,
         "file": str(entry.file),
         "hash": h,
-        "run_key": run_key(h, config),
+        "run_key": run_key(entry.key, h, config),
         "config": config.label,
         "n": len(inst.boxes),
         "dim": inst.dim,
@@ -210,12 +211,15 @@ def _dask(address: str) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[i
         with Client(address, set_as_default=False) as client:
             futures = [client.submit(solve_isolated, job, wall, pure=False) for job, wall in work]
             index = {f.key: k for k, f in enumerate(futures)}
-            for f in dask_completed(futures, loop=client.loop):
-                try:
-                    outcome = f.result()
-                except Exception as exc:  # the cluster failed (lost worker...), not the solve: retried on resume
-                    outcome = {"result": None, "error": f"Dask task failed: {type(exc).__name__}: {exc}", "seconds": 0.0, "transient": True}
-                yield index[f.key], outcome
+            try:
+                for f in dask_completed(futures, loop=client.loop):
+                    try:
+                        outcome = f.result()
+                    except Exception as exc:  # the cluster failed (lost worker...), not the solve: retried on resume
+                        outcome = {"result": None, "error": f"Dask task failed: {type(exc).__name__}: {exc}", "seconds": 0.0, "transient": True}
+                    yield index[f.key], outcome
+            finally:  # an interrupted run starts nothing more on the cluster
+                client.cancel([f for f in futures if not f.done()])
 
     return execute
 
@@ -234,7 +238,7 @@ def run_bench(
     old = {r.get("run_key"): r for r in store.read()}
     version = stackproof_version()
     prepared = [make_job(e, config) for e in entries]
-    keys = [run_key(instance_hash(e.instance), config) for e, _ in prepared]
+    keys = [run_key(e.key, instance_hash(e.instance), config) for e, _ in prepared]
     todo = [k for k, key in enumerate(keys) if key not in old]
     bar = Progress(len(todo), enabled=progress)
     execute = _dask(scheduler) if scheduler else _local(jobs)

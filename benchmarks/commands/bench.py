@@ -80,7 +80,9 @@ def run(args: argparse.Namespace) -> int:
     if args.report:
         instances = {e.key: e.instance for e in entries}
         mine = {r["run_key"] for r in records}
-        compare = records + [r for r in baseline or [] if r.get("key") in instances and r.get("run_key") not in mine]
+        earlier = [dict(r, config=f"baseline: {r.get('config')}") for r in baseline or []
+                   if r.get("key") in instances and r.get("run_key") not in mine]
+        compare = records + earlier
         files = write_report(args.report, compare, instances)
         print("report: " + ", ".join(str(f) for f in files))
     if args.junit:
