@@ -103,9 +103,6 @@ class _Tokens:
             raise InputError.one(self.file, f"line {ln}", f"{what} times {scale} must be a positive integer, got {tok}")
         return int(value)
 
-    def line_of_next(self) -> int:
-        return self._items[self._pos][1] if self._pos < len(self._items) else 0
-
     def seek_word(self, word: str) -> None:
         """Move to just after the token `word` (multi-instance files)."""
         for k, (tok, _) in enumerate(self._items):

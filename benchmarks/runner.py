@@ -21,7 +21,7 @@ from instances.io import instance_to_dict, plan_to_dict, result_from_dict
 from instances.model import Result
 
 from .isolate import REPO_ROOT, kill_live_solves, solve_isolated
-from .results import ResultsFile, is_failure, is_proven
+from .results import ResultsFile, is_proven
 from .suites import SuiteEntry, instance_hash, shuffled
 from .verify import verify
 
