@@ -26,6 +26,7 @@ from instances.model import Instance
 from .published import MANIFEST, is_published_manifest, load_published
 
 SUITE_FORMAT = "stackproof/suite"
+GENERATED_FORMAT = "stackproof/generated"  # what `stackproof generate` writes beside its instances
 
 
 @dataclass(frozen=True)
@@ -82,6 +83,8 @@ def _from_manifest_file(path: Path) -> list[SuiteEntry]:
         return [SuiteEntry(path.parent.name or "suite", inst.name or path.stem, path, inst)]
     if isinstance(doc, dict) and doc.get("format") == SUITE_FORMAT:
         return _from_suite_doc(doc, path)
+    if isinstance(doc, dict) and doc.get("format") == GENERATED_FORMAT:
+        return _from_generated_doc(doc, path)
     raise InputError.one(str(path), "format", f"not a suite: expected \"{SUITE_FORMAT}\", \"stackproof/instance\" or a published benchmark manifest")
 
 
@@ -106,6 +109,14 @@ def _from_suite_doc(doc: dict, path: Path) -> list[SuiteEntry]:
         inst = instance_from_dict(load_json(target), file=str(target))
         out.append(SuiteEntry(str(item.get("set", default_set)), inst.name or target.stem, target, inst))
     return out
+
+
+def _from_generated_doc(doc: dict, path: Path) -> list[SuiteEntry]:
+    """A generator's manifest: each entry's "file" is an instance beside it; the rest is provenance."""
+    items = doc.get("instances")
+    if not isinstance(items, list) or not all(isinstance(e, dict) and isinstance(e.get("file"), str) for e in items):
+        raise InputError.one(str(path), "instances", "must be a list of objects with a \"file\"")
+    return _from_suite_doc({"format": SUITE_FORMAT, "version": 1, "instances": [e["file"] for e in items]}, path)
 
 
 def _from_directory(folder: Path) -> list[SuiteEntry]:

@@ -79,3 +79,13 @@ def test_progress_shows_done_proven_and_elapsed():
     plain = io.StringIO()
     Progress(1, stream=plain).update(rec)
     assert plain.getvalue().startswith("[1/1 done, 1 proven,") and "s/a: optimal objective 2" in plain.getvalue()
+
+
+def test_a_generated_folder_is_a_suite_through_its_manifest(tmp_path):
+    from benchmarks.cli import main
+
+    assert main(["generate", "planted", "--dim", "2", "--boxes", "4", "--count", "2", "--seed", "3", "-o", str(tmp_path)]) == 0
+    manifest = json.loads((tmp_path / "MANIFEST.json").read_text())
+    entries = load_suite(tmp_path)
+    assert sorted(e.file.name for e in entries) == sorted(item["file"] for item in manifest["instances"])
+    assert all(e.instance.known is not None for e in entries)
