@@ -241,8 +241,14 @@ def result_from_dict(doc: Any, file: Optional[str] = None) -> Result:
 # ---------------------------------------------------------------- model -> dict
 
 def _num(x: Optional[float]) -> Optional[float]:
-    """Integral floats written as ints, so integer data stay integer on disk."""
-    if isinstance(x, float) and math.isfinite(x) and x.is_integer() and abs(x) < 2**53:
+    """Integral floats written as ints, so integer data stay integer on disk; no JSON for infinity.
+
+    An infinite value (a bound proving infeasibility) is written as null: JSON has no infinity,
+    and the reason for an `infeasible` status is in the result's notes.
+    """
+    if isinstance(x, float) and not math.isfinite(x):
+        return None
+    if isinstance(x, float) and x.is_integer() and abs(x) < 2**53:
         return int(x)
     return x
 
@@ -314,7 +320,7 @@ def result_to_dict(result: Result) -> dict:
         "bound": _num(result.bound),
         "gap": result.gap,
         "tiebreak": None if result.tiebreak is None else {"name": result.tiebreak.name, "value": _num(result.tiebreak.value), "proved": result.tiebreak.proved},
-        "bounds": {k: _num(v) for k, v in result.bounds.items()},
+        "bounds": {k: _num(v) for k, v in result.bounds.items() if math.isfinite(v)},
         "plan": None if result.plan is None else plan_to_dict(result.plan),
         "checked": result.checked,
         "solver": solver,

@@ -112,3 +112,12 @@ def test_write_json_is_atomic(tmp_path, monkeypatch):
         write_json(target, {"a": 2})
     assert json.loads(target.read_text()) == {"a": 1}
     assert [p.name for p in tmp_path.iterdir()] == ["out.json"]
+
+
+def test_an_infinite_bound_is_written_as_null_and_left_out_of_bounds(tmp_path):
+    result = Result(instance="x", status="infeasible", bound=float("inf"), bounds={"area": 2.0, "dff": float("inf")},
+                    notes=("a lower bound proves that no plan exists (dff)",))
+    write_json(tmp_path / "r.json", result_to_dict(result))
+    doc = json.loads((tmp_path / "r.json").read_text())
+    assert doc["bound"] is None and doc["bounds"] == {"area": 2}
+    assert result_from_dict(doc).status == "infeasible"
