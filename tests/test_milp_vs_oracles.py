@@ -19,7 +19,7 @@ from instances.checker import check_plan
 from instances.model import Box, ContainerType, Instance, Objective, Rules, Support
 from tests.oracles.cpsat import strip_height_cpsat
 from tests.oracles.exhaustive import solve_exhaustive
-from tests.oracles.tiny import tiny_instances, tiny_strip_instances
+from tests.oracles.tiny import binding_instances, tiny_instances, tiny_strip_instances
 
 TIME_LIMIT = 30.0  # per solve; tiny instances prove in well under a second
 EPS = 1e-6
@@ -78,6 +78,20 @@ def test_milp_equals_exhaustive_3d(inst):
 @given(tiny_instances(with_source=True))
 def test_milp_equals_exhaustive_with_a_source(inst):
     # the rules that come from the source (lift order, side faces, walls, clearance) on every draw
+    assert_agrees(inst, milp.solve(inst, time_limit=TIME_LIMIT), solve_exhaustive(inst))
+
+
+@drawn(200)
+@given(binding_instances(dim=2))
+def test_milp_equals_exhaustive_where_rules_bite_2d(inst):
+    # stacks, loading from above, a support rule and side-face access: bounds and the greedy
+    # plan rarely settle these, so the model has to find and prove the optimum itself
+    assert_agrees(inst, milp.solve(inst, time_limit=TIME_LIMIT), solve_exhaustive(inst))
+
+
+@drawn(120)
+@given(binding_instances(dim=3))
+def test_milp_equals_exhaustive_where_rules_bite_3d(inst):
     assert_agrees(inst, milp.solve(inst, time_limit=TIME_LIMIT), solve_exhaustive(inst))
 
 

@@ -62,16 +62,23 @@ def orientation_sets(draw, dim: int) -> tuple[str, ...]:
 
 @st.composite
 def tiny_instances(draw, dim: Optional[int] = None, with_source: Optional[bool] = None,
-                   max_boxes: Optional[int] = None) -> Instance:
-    """A tiny valid instance: resting source (or none), targets, counts, any rules and objective."""
+                   max_boxes: Optional[int] = None, min_boxes: int = 1,
+                   supports: tuple[Support, ...] = SUPPORTS,
+                   loadings: tuple[str, ...] = ("from-above", "any"),
+                   accesses: tuple[str, ...] = ("side-face", "none"),
+                   objectives: tuple[str, ...] = ("height", "height-sum", "bins")) -> Instance:
+    """A tiny valid instance: resting source (or none), targets, counts, any rules and objective.
+
+    The keyword tuples narrow the rules drawn (see `binding_instances`).
+    """
     dim = draw(st.sampled_from([2, 3])) if dim is None else dim
     lim = LIMITS[dim]
-    n = draw(st.integers(1, max_boxes or lim["boxes"]))
+    n = draw(st.integers(min_boxes, max_boxes or lim["boxes"]))
     lo_e, hi_e = lim["extent"]
     sizes = [tuple(draw(st.integers(lo_e, hi_e)) for _ in range(dim)) for _ in range(n)]
     has_source = draw(st.booleans()) if with_source is None else with_source
 
-    objective = draw(st.sampled_from(["height", "height-sum", "bins"]))
+    objective = draw(st.sampled_from(objectives))
     then = draw(st.sampled_from(["none", "tips"]))
     n_types = draw(st.integers(1, 2))
     # mostly roomy containers (every box fits some way), sometimes tight ones (often infeasible)
@@ -105,9 +112,9 @@ def tiny_instances(draw, dim: Optional[int] = None, with_source: Optional[bool] 
         boxes.append(Box(f"b{k}", size, draw(orientation_sets(dim)), ats[k], target))
 
     rules = Rules(
-        support=draw(st.sampled_from(SUPPORTS)),
-        loading=draw(st.sampled_from(["from-above", "any"])),
-        access=draw(st.sampled_from(["side-face", "none"])),
+        support=draw(st.sampled_from(supports)),
+        loading=draw(st.sampled_from(loadings)),
+        access=draw(st.sampled_from(accesses)),
         side_clearance=draw(st.sampled_from([0, 0, 1])),
         integer_positions=True,
         tolerance=1e-6,
@@ -133,3 +140,14 @@ def tiny_strip_instances(draw, dim: Optional[int] = None, max_boxes: Optional[in
     rules = Rules(support=Support("none"), loading="any", access="none", integer_positions=True)
     return Instance(dim, boxes, (ContainerType("strip", (*foot, None), 1),), None, rules,
                     Objective("height", "none"), name="tiny-strip")
+
+
+def binding_instances(dim: Optional[int] = None) -> st.SearchStrategy[Instance]:
+    """Tiny instances where the rules bite: a source with stacks, loading from above, a support
+    rule, side-face access, several boxes. Simple bounds rarely close these, so the solver's
+    model itself has to find and prove the optimum."""
+    return tiny_instances(
+        dim=dim, with_source=True, min_boxes=3,
+        supports=(Support("center"), Support("corners"), Support("base-fraction", 1.0), Support("base-fraction", 0.5)),
+        loadings=("from-above",), accesses=("side-face",), objectives=("height", "height-sum"),
+    )
