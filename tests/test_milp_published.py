@@ -7,7 +7,9 @@ loading `any`, support `none`, integer positions, rotation as the manifest says)
 - rotated: the manifest says the optimum also holds with 90-degree rotation
   (`optimum_valid_with_rotation`), so with both orientations allowed it must be proved again;
 - short runs: larger instances the solver does not yet prove quickly; after a few seconds its
-  bound must not exceed the optimum and its plan must not beat it (and must pass the checker).
+  bound must not exceed the optimum and its plan must not beat it (and must pass the checker);
+- bins: the small 2D bin packing instances (objective `bins`, fixed orientation) proved at the
+  published number of bins.
 Values the manifest marks `optimum_from_memory` were recalled from the paper named beside them,
 not read in a file; the test checks that flag against the note here.
 """
@@ -24,6 +26,7 @@ from instances.checker import check_plan
 HT2001 = "Hopper & Turton (2001), EJOR 128(1):34-57, Table 1 of the data document (C1: 20x20, optimum 20); read in a file"
 H2000 = "Hopper (2000), PhD thesis, Cardiff University, Tables A.1 (T) and A.2 (N): optimum 200x200; read in a file"
 MMV2003 = "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3):310-319, strip optima table; from memory"
+MV1998 = "Martello & Vigo (1998), Management Science 44(3):388-399, 2D bin packing optima; from memory"
 
 # name -> where the published optimum comes from
 PROVED = {
@@ -31,7 +34,12 @@ PROVED = {
     "cgcut1": MMV2003, "gcut1": MMV2003, "N1b": H2000, "T1d": H2000,
 }
 ROTATED = {"cgcut1": MMV2003, "ngcut5": MMV2003}
-SHORT = {"C1_1": HT2001, "C1_2": HT2001, "C1_3": HT2001, "ngcut2": MMV2003, "ngcut6": MMV2003, "BENG1": MMV2003}
+BINS = {name: MV1998 for name in (
+    "cgcut1_bin", "cgcut2_bin", "ngcut4_bin", "ngcut5_bin", "ngcut7_bin", "ngcut8_bin", "ngcut9_bin",
+    "ngcut11_bin", "ngcut12_bin", "gcut5_bin", "gcut9_bin",
+)}
+SHORT = {"C1_1": HT2001, "C1_2": HT2001, "C1_3": HT2001, "ngcut2": MMV2003, "ngcut6": MMV2003, "BENG1": MMV2003,
+         "gcut13_bin": MV1998}
 
 PROVE_LIMIT = 60.0
 SHORT_LIMIT = 3.0
@@ -94,3 +102,11 @@ def test_milp_short_run_respects_published_optimum(name):
     _assert_valid(inst, result, inst.known.optimum, SHORT[name])
     if result.status == "optimal":
         assert result.objective == pytest.approx(inst.known.optimum)
+
+
+@pytest.mark.parametrize("name", sorted(BINS))
+def test_milp_proves_published_bin_optimum(name):
+    entry = _entry(name, BINS[name])
+    inst = entry.instance
+    assert inst.objective.minimise == "bins"
+    _assert_proved(inst, milp.solve(inst, time_limit=PROVE_LIMIT), inst.known.optimum, BINS[name])
