@@ -19,6 +19,7 @@ from instances.checker import check_plan
 from instances.model import Box, ContainerType, Instance, Objective, Rules, Support
 from tests.oracles.cpsat import strip_height_cpsat
 from tests.oracles.exhaustive import solve_exhaustive
+from tests.oracles.handworked import CASES
 from tests.oracles.tiny import binding_instances, tiny_instances, tiny_strip_instances
 
 TIME_LIMIT = 30.0  # per solve; tiny instances prove in well under a second
@@ -60,6 +61,18 @@ def assert_agrees(inst: Instance, result, oracle) -> None:
     # tiny instances must be settled well within the limit: an exact tool that cannot prove
     # a five-box instance is broken
     assert result.status in ("optimal", "infeasible"), (result.status, result.notes)
+
+
+@pytest.mark.parametrize("case", CASES, ids=lambda c: c.name)
+def test_milp_reproduces_hand_worked_optima(case):
+    result = milp.solve(case.instance, time_limit=TIME_LIMIT)
+    assert result.status == case.status, (case.why, result.notes)
+    if case.status == "optimal":
+        assert result.objective == case.objective, case.why
+        if case.tips is not None:
+            assert result.tiebreak is not None and result.tiebreak.proved
+            assert result.tiebreak.value == case.tips, case.why
+        assert check_plan(case.instance, result.plan).feasible
 
 
 @drawn(150)

@@ -13,7 +13,6 @@ import dataclasses
 
 import pytest
 from hypothesis import HealthCheck, given, settings
-from hypothesis import strategies as st
 
 from instances.drop import drop_plan
 from instances.checker import check_plan
@@ -23,6 +22,7 @@ from instances.precedence import precedence_graph
 from instances.validate import instance_problems
 from tests.oracles.cpsat import is_strip_case, strip_height_cpsat
 from tests.oracles.exhaustive import NotExact, solve_exhaustive, source_relations
+from tests.oracles.handworked import CASES, bridge as _bridge, instance2d, neighbour_rows as _neighbour_rows
 from tests.oracles.tiny import drop, tiny_instances, tiny_strip_instances
 from tests.worked_examples import FORMATS_INSTANCE
 
@@ -30,16 +30,19 @@ FAST = settings(max_examples=60, deadline=None, database=None, derandomize=True,
                 suppress_health_check=list(HealthCheck))
 
 
-def instance2d(boxes, width, *, height=None, count=1, source=None, support="center", access="side-face",
-               loading="from-above", objective="height", then="none", clearance=0, fraction=None) -> Instance:
-    """A 2D instance from (id, size, at, orientations) rows; one container type `c`."""
-    bs = tuple(Box(i, s, o, a) for i, s, a, o in boxes)
-    rules = Rules(Support(support, fraction), loading, access, clearance, True, 1e-6)
-    src = None if source is None else Source(source)
-    return Instance(2, bs, (ContainerType("c", (width, height), count),), src, rules, Objective(objective, then))
-
-
 # ---------------------------------------------------------------- hand-worked examples
+
+
+@pytest.mark.parametrize("case", CASES, ids=lambda c: c.name)
+def test_hand_worked_table(case):
+    for method in ("sequence", "layout"):
+        got = solve_exhaustive(case.instance, method=method)
+        assert got.status == case.status, case.why
+        if case.status == "optimal":
+            assert got.objective == case.objective, case.why
+            if case.tips is not None:
+                assert got.tips == case.tips, case.why
+
 
 
 def test_formats_worked_example_has_optimum_five_with_one_tip():
@@ -76,11 +79,6 @@ def test_tip_with_both_faces_against_walls_is_infeasible():
     assert solve_exhaustive(instance2d(rows, 3, height=1, source=(1, None))).status == "infeasible"
     relaxed = solve_exhaustive(instance2d(rows, 3, height=1, source=(1, None), access="none"))
     assert (relaxed.status, relaxed.objective, relaxed.tips) == ("optimal", 1, 1)
-
-
-def _neighbour_rows(gap: int):
-    # a (1 wide, 3 tall) against the left wall; b (1x1) beside it with `gap` between them.
-    return [("a", (1, 3), (0, 0), ("xy", "yx")), ("b", (1, 1), (1 + gap, 0), ("xy",))]
 
 
 def test_neighbour_blocks_tip_until_it_has_left():
@@ -165,6 +163,31 @@ def test_three_d_tip_needs_the_right_pair_of_faces():
     got = solve_exhaustive(inst(("xyz", "zxy")))
     assert (got.status, got.objective, got.tips) == ("optimal", 2, 1)
     assert [m.box for m in got.plan.moves] == ["b", "a"]
+
+
+def test_three_d_support_rules_on_a_bridge():
+    # Two supporters under b: each of its four base corners lies on one of them: height 2.
+    assert solve_exhaustive(_bridge(Support("corners"), True)).objective == 2
+    # One supporter (a1 under the left half): the right corners are unsupported; the centre
+    # (1, 1) lies on a1's top edge (edges count); half the base area is covered.
+    assert solve_exhaustive(_bridge(Support("corners"), False)).status == "infeasible"
+    assert solve_exhaustive(_bridge(Support("center"), False)).objective == 2
+    assert solve_exhaustive(_bridge(Support("base-fraction", 0.5), False)).objective == 2
+    assert solve_exhaustive(_bridge(Support("base-fraction", 0.75), False)).status == "infeasible"
+
+
+def test_three_d_turn_about_the_vertical_is_not_a_tip():
+    # A 1x2x1 box filling a 1x2 source (every side face at a wall) into a 2x1 target 1 tall:
+    # it fits only turned ('yxz', extents 2x1x1), which keeps it upright, so no face is needed.
+    # Allowed only tipped orientations of the same footprint ('zxy' is 1x1x2: too tall;
+    # 'yzx' is 2x1x1 with x vertical, needing left-right, both at walls): infeasible.
+    def inst(orients):
+        rules = Rules(Support("center"), "from-above", "side-face", 0, True, 1e-6)
+        return Instance(3, (Box("a", (1, 2, 1), orients, (0, 0, 0)),), (ContainerType("c", (2, 1, 1), 1),),
+                        Source((1, 2, None)), rules, Objective("height", "tips"))
+    turned = solve_exhaustive(inst(("xyz", "yxz")))
+    assert (turned.status, turned.objective, turned.tips) == ("optimal", 1, 0)
+    assert solve_exhaustive(inst(("xyz", "yzx"))).status == "infeasible"
 
 
 # ---------------------------------------------------------------- against the project's own modules
