@@ -5,7 +5,6 @@ import argparse
 import json
 import math
 
-import bounds
 from instances.io import read_instance
 
 NAME = "bound"
@@ -20,6 +19,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     instance = read_instance(args.instance)
+    import bounds  # scipy-backed: imported here so that every other command starts fast
+
     values = bounds.all_bounds(instance)
     top = max((b.value for b in values), default=0.0)
     if args.json:
