@@ -16,7 +16,7 @@ from instances.errors import InputError
 from instances.model import Instance, Plan, Result, SolverInfo, TieBreak, relative_gap
 from instances.precedence import precedence_graph
 
-from . import backends
+from . import backends, grid
 from .extract import extract_plan
 from .incumbent import Incumbent, best_incumbent
 from .model import build
@@ -184,19 +184,28 @@ def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool)
         if run.upper is None and target > cap:
             run.bound = math.inf
             return
-        m = build(p, vcap=target, lower=0.0, upper=target, goal="feasible")
-        out = backends.run(m.lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
+        use_grid = (grid.applies(p) and grid.is_perfect(p, int(target))
+                    and grid.size_estimate(p, int(target)) <= grid.MAX_NONZEROS)
+        if use_grid:
+            g = grid.build_grid(p, int(target))
+            lp, exact, restrictions, extract = g.lp, True, [], (lambda g=g: grid.grid_plan(p, g))
+            if not any(n.startswith("perfect-packing") for n in run.notes):
+                run.notes.append("perfect-packing step: position-indexed model on normal patterns (Beasley 1985)")
+        else:
+            m = build(p, vcap=target, lower=0.0, upper=target, goal="feasible")
+            lp, exact, restrictions, extract = m.lp, m.exact, m.restrictions, (lambda m=m: extract_plan(m))
+        out = backends.run(lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
                            log=log, integral=True)
         run.nodes += out.nodes or 0
         run.milp_seconds += out.seconds
         run.interrupted = out.interrupted
-        run.notes.extend(r for r in m.restrictions if r not in run.notes)
+        run.notes.extend(r for r in restrictions if r not in run.notes)
         if out.objective is not None and out.status in ("optimal", "feasible"):
-            if not run.offer(extract_plan(m)):
+            if not run.offer(extract()):
                 return
             if run.upper is not None and run.upper > target + 1e-9:
                 return  # the checked plan scores above the target: do not claim more than it shows
-        elif out.status == "infeasible" and m.exact:
+        elif out.status == "infeasible" and exact:
             run.bound = target + 1
             run.bounds["milp"] = float(run.bound)
         else:
