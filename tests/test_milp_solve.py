@@ -291,3 +291,15 @@ def test_unknown_when_nothing_is_found(monkeypatch):
     inst = strip2d([Box("A", (1, 1), ("xy",)), Box("B", (1, 1), ("xy",))], 1)
     r = solve(inst, time_limit=1.0)
     assert r.status == "unknown" and r.plan is None and r.objective is None
+
+
+@pytest.mark.parametrize("dim, n, seed", [(2, 6, 0), (2, 6, 1), (2, 10, 2), (3, 5, 0), (3, 8, 1)])
+def test_planted_optimum_is_reached_and_proved(dim, n, seed):
+    # instances.generate.planted_instance: the optimum (area bound) is known by construction.
+    from instances.generate import planted_instance
+
+    inst, planted = planted_instance(dim, n, seed, integer_positions=True)
+    assert check_plan(inst, planted).objective == inst.known.optimum
+    r = solve(inst, time_limit=60)
+    checked(inst, r)
+    assert r.status == "optimal" and r.objective == inst.known.optimum
