@@ -283,6 +283,36 @@ def test_cpsat_and_exhaustive_agree_on_strip_packing(inst):
         assert cp.bound == cp.height
 
 
+# name -> where the published optimum comes from (MANIFEST.json); C1 allows rotation.
+PUBLISHED_STRIPS = {
+    "C1_1": "Hopper & Turton (2001), EJOR 128(1), Table 1 (C1: optimum 20); read in a file",
+    "C1_2": "Hopper & Turton (2001), EJOR 128(1), Table 1 (C1: optimum 20); read in a file",
+    "C1_3": "Hopper & Turton (2001), EJOR 128(1), Table 1 (C1: optimum 20); read in a file",
+    "T1d": "Hopper (2000), PhD thesis, Cardiff, Table A.1 (optimum 200x200); read in a file",
+    "ngcut1": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+    "ngcut3": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+    "ngcut4": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+    "ngcut5": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+    "ngcut7": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+    "cgcut1": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+    "gcut1": "Martello, Monaci & Vigo (2003), INFORMS J. Computing 15(3); from memory",
+}
+
+
+@pytest.mark.parametrize("name", sorted(PUBLISHED_STRIPS))
+def test_cpsat_reproduces_published_strip_optima(name):
+    from benchmarks.published import load_published, published_folder
+
+    folder = published_folder()
+    if folder is None:
+        pytest.skip("published benchmark folder not found (../shared/benchmarks/published)")
+    (entry,) = load_published(folder, names=[name])
+    assert entry.from_memory == PUBLISHED_STRIPS[name].endswith("from memory")
+    got = strip_height_cpsat(entry.instance, time_limit=60)
+    assert got.status == "optimal", PUBLISHED_STRIPS[name]
+    assert got.height == entry.instance.known.optimum, PUBLISHED_STRIPS[name]
+
+
 def test_cpsat_refuses_instances_with_a_source():
     inst = instance2d([("a", (2, 1), (0, 0), ("xy",))], 2, source=(2, None), support="none", loading="any")
     with pytest.raises(ValueError):

@@ -8,6 +8,9 @@ modelled here independently of the MILP:
   NoOverlap2D constraint;
 - 3D: CP-SAT has no 3D no-overlap constraint, so each pair of boxes gets six literals "i left of
   j", "j left of i", ... of which at least one holds (the relative-position disjunction).
+Redundant constraints only speed the proof: in 2D a cumulative constraint on the vertical
+intervals (widths at any height fit the strip), and everywhere the volume bound (floor area
+times height holds every box).
 The returned plan is handed to `instances.checker.check_plan` when `check` is set.
 """
 from __future__ import annotations
@@ -38,6 +41,13 @@ class CpStrip:
     bound: Optional[int]
     plan: Optional[Plan]
     seconds: float
+
+
+def _volume(ext) -> int:
+    out = 1
+    for e in ext:
+        out *= e
+    return out
 
 
 def is_strip_case(instance: Instance) -> bool:
@@ -104,6 +114,9 @@ def strip_height_cpsat(instance: Instance, *, time_limit: float = 30.0, workers:
             xs.append(m.new_interval_var(pos[i][0], ext_vars[i][0], ends[0], f"ix{i}"))
             ys.append(m.new_interval_var(pos[i][1], ext_vars[i][1], ends[1], f"iy{i}"))
         m.add_no_overlap_2d(xs, ys)
+        # redundant: at every height the widths of the boxes crossing it fit in the strip
+        # (the bar relaxation; gives CP-SAT the area bound and energy reasoning)
+        m.add_cumulative(ys, [ext_vars[i][0] for i in range(len(boxes))], width[0])
     else:
         for i, j in combinations(range(len(boxes)), 2):
             sides = []
@@ -113,6 +126,12 @@ def strip_height_cpsat(instance: Instance, *, time_limit: float = 30.0, workers:
                     m.add(pos[u][a] + ext_vars[u][a] <= pos[w][a]).only_enforce_if(lit)
                     sides.append(lit)
             m.add_bool_or(sides)
+    # redundant: the floor area times the height holds every box (rotation keeps volumes)
+    floor = 1
+    for w in width:
+        floor *= w
+    volume = sum(_volume(opts[0][0]) for opts in options)
+    m.add(floor * height >= volume)
     m.minimize(height)
 
     solver = cp_model.CpSolver()
