@@ -13,6 +13,7 @@ import random
 
 import pytest
 from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 import milp
 from instances.checker import check_plan
@@ -146,7 +147,8 @@ def random_strip(dim: int, n: int, seed: int, rotate: bool) -> Instance:
 @pytest.mark.parametrize(
     "dim,n,seed,rotate",
     [(2, 7, 1, False), (2, 7, 2, True), (2, 8, 3, False), (2, 8, 4, True), (2, 10, 7, False),
-     (3, 5, 5, False), (3, 5, 6, True), (3, 6, 9, True)],
+     (2, 10, 8, True), (2, 11, 11, False), (2, 12, 13, False), (2, 12, 14, True),
+     (3, 5, 5, False), (3, 5, 6, True), (3, 6, 9, True), (3, 7, 16, True), (3, 8, 17, True)],
 )
 def test_milp_equals_cpsat_on_small_strips(dim, n, seed, rotate):
     inst = random_strip(dim, n, seed, rotate)
@@ -155,4 +157,29 @@ def test_milp_equals_cpsat_on_small_strips(dim, n, seed, rotate):
     result = milp.solve(inst, time_limit=60)
     assert result.status == "optimal", (result.status, result.objective, result.bound, result.notes)
     assert result.objective == cp.height
+    assert check_plan(inst, result.plan).feasible
+
+
+@st.composite
+def small_strips(draw) -> Instance:
+    """2D strip instances of 6 to 10 rectangles with a wide spread of sizes (area bound often loose)."""
+    width = draw(st.integers(5, 10))
+    n = draw(st.integers(6, 10))
+    rotate = draw(st.booleans())
+    sizes = [(draw(st.integers(1, width)), draw(st.integers(1, width))) for _ in range(n)]
+    boxes = tuple(Box(f"r{k}", s, ("xy", "yx") if rotate else ("xy",)) for k, s in enumerate(sizes))
+    rules = Rules(Support("none"), "any", "none", 0, True, 1e-6)
+    return Instance(2, boxes, (ContainerType("strip", (width, None), 1),), None, rules, Objective("height"),
+                    name="small-strip")
+
+
+@drawn(40)
+@given(small_strips())
+def test_milp_equals_cpsat_on_drawn_strips(inst):
+    cp = strip_height_cpsat(inst, time_limit=60)
+    assert cp.status == "optimal"
+    result = milp.solve(inst, time_limit=60)
+    assert result.status == "optimal", (result.status, result.objective, result.bound, result.notes)
+    assert result.objective == cp.height
+    assert all(v <= cp.height + EPS for v in result.bounds.values()), result.bounds
     assert check_plan(inst, result.plan).feasible
