@@ -179,10 +179,16 @@ def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool)
     """
     p = run.problem
     cap = _safe_cap(p)
+    if all(slot.size[-1] is not None for slot in p.slots):
+        cap = min(cap, max(slot.size[-1] for slot in p.slots))  # no box top can be above that
+    z = p.dim - 1
+    # model-internal: every box stands somewhere, so H is at least the lowest extent of the tallest box
+    run.bound = max(run.bound, round_bound(max(p.min_extent(i, z) for i in range(p.n)), True))
     while not run.closed() and run.left() > 0.05 and not run.interrupted:
         target = run.bound
-        if run.upper is None and target > cap:
-            run.bound = math.inf
+        if target > cap + 1e-9:
+            if run.upper is None:
+                run.bound = math.inf  # every height up to the cap failed: no plan exists
             return
         use_grid = (grid.applies(p) and grid.is_perfect(p, int(target))
                     and grid.size_estimate(p, int(target)) <= grid.MAX_NONZEROS)
