@@ -110,6 +110,9 @@ def run(lp: pulp.LpProblem, *, backend: str = "highs", time_limit: float = 60.0,
         return Outcome("unknown", None, None, None, time.perf_counter() - t0)
     seconds = time.perf_counter() - t0
     has_solution = lp.sol_status in (pulp.LpSolutionOptimal, pulp.LpSolutionIntegerFeasible)
+    if backend == "highs" and solver.info is not None:
+        # PuLP reports an interrupted or timed-out run as integer-feasible even without a solution
+        has_solution = has_solution and int(solver.info.primal_solution_status) == 2  # kSolutionStatusFeasible
     objective = pulp.value(lp.objective) if has_solution else None
     if objective is None and has_solution:
         objective = 0.0
