@@ -78,16 +78,7 @@ def half_size(view: View) -> tuple[float, str]:
     packing instance, bounded with the DFF family (which contains the Martello & Toth L2 bound,
     Fekete & Schepers 2004). Per type, summed over types.
     """
-    total, parts = 0.0, []
-    for k in view.instance.containers:
-        boxes = view.forced(k)
-        if boxes:
-            v, why = _half_size_type(view, boxes, k)
-            if v > k.count:
-                return math.inf, f"{why}: more than the {k.count} containers of {k.id}"
-            total += v
-            parts.append(f"{k.id}: {why}")
-    return total, "; ".join(parts)
+    return _summed_over_types(view, _half_size_type)
 
 
 def _half_size_type(view: View, boxes: list[Box], ctype: ContainerType) -> tuple[float, str]:
@@ -121,16 +112,7 @@ def big_items(view: View) -> tuple[float, str]:
     K1 ranges over the threshold sets of Martello & Vigo (boxes longer than S_a - p_a on every
     axis a, p_a taken from the box sizes) and prefixes of K by volume. Per type, summed.
     """
-    total, parts = 0.0, []
-    for k in view.instance.containers:
-        boxes = view.forced(k)
-        if boxes:
-            v, why = _big_items_type(view, boxes, k)
-            if v > k.count:
-                return math.inf, f"the boxes bound for {k.id} need {v:g} containers ({why}), {k.count} exist"
-            total += v
-            parts.append(f"{k.id}: {why}")
-    return total, "; ".join(parts)
+    return _summed_over_types(view, _big_items_type)
 
 
 def _big_items_type(view: View, boxes: list[Box], ctype: ContainerType) -> tuple[float, str]:
@@ -175,3 +157,17 @@ def _big_items_type(view: View, boxes: list[Box], ctype: ContainerType) -> tuple
         if v > best:
             best, why = float(v), f"{len(k1)}+{len(k2)} large boxes, {int(ok.sum())} boxes that cannot join the first"
     return best, why
+
+
+def _summed_over_types(view: View, per_type) -> tuple[float, str]:
+    """Sum a per-type container bound over the types; infinity when a type needs more than it has."""
+    total, parts = 0.0, []
+    for k in view.instance.containers:
+        boxes = view.forced(k)
+        if boxes:
+            v, why = per_type(view, boxes, k)
+            if v > k.count:
+                return math.inf, f"the boxes bound for {k.id} need {v:g} containers ({why}), {k.count} exist"
+            total += v
+            parts.append(f"{k.id}: {why}")
+    return total, "; ".join(parts)
