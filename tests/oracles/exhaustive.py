@@ -257,6 +257,17 @@ class _Search:
         contents: list[list[tuple[tuple[int, ...], tuple[int, ...], int]]] = [[] for _ in self.slots]
         self._dfs(0, [None] * self.n, contents, 0, [])
 
+    def _enter(self, contents, tips: int):
+        """Count a node; None when the incumbent already beats every completion, else (objective, tips key)."""
+        self.nodes += 1
+        if self.nodes > self.max_nodes:
+            raise TooLarge(f"more than {self.max_nodes} search nodes")
+        tip_key = tips if self.count_tips else 0
+        current = self._objective(contents)
+        if (max(current, self.static_lb), tip_key) >= self.best_key:
+            return None
+        return current, tip_key
+
     def _objective(self, contents) -> int:
         heights = [max(h[-1] for _, h, _ in c) for c in contents if c]
         if self.goal == "height":
@@ -266,13 +277,10 @@ class _Search:
         return len(heights)
 
     def _dfs(self, moved: int, where: list, contents: list, tips: int, moves: list) -> None:
-        self.nodes += 1
-        if self.nodes > self.max_nodes:
-            raise TooLarge(f"more than {self.max_nodes} search nodes")
-        tip_key = tips if self.count_tips else 0
-        current = self._objective(contents)
-        if (max(current, self.static_lb), tip_key) >= self.best_key:
+        key = self._enter(contents, tips)
+        if key is None:
             return
+        current, tip_key = key
         if moved == (1 << self.n) - 1:
             self.best_key = (current, tip_key)
             self.best_moves = list(moves)
@@ -418,13 +426,10 @@ class _LayoutSearch(_Search):
         self._place(0, contents, 0, (-1, -1))
 
     def _place(self, placed: int, contents: list, tips: int, last: tuple[int, int]) -> None:
-        self.nodes += 1
-        if self.nodes > self.max_nodes:
-            raise TooLarge(f"more than {self.max_nodes} search nodes")
-        tip_key = tips if self.count_tips else 0
-        current = self._objective(contents)
-        if (max(current, self.static_lb), tip_key) >= self.best_key:
+        key = self._enter(contents, tips)
+        if key is None:
             return
+        current, tip_key = key
         if placed == (1 << self.n) - 1:
             order = self._sequence()
             if order is not None:
