@@ -256,8 +256,10 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
     Pipeline: validate options; index the instance and drop orientations that can never be used
     (reporting a proof of infeasibility when a box has none left); lower bounds from `bounds`;
     a greedy precedence-respecting incumbent; then a relative-position MILP (Chen, Lee & Shen
-    1995) with order potentials for the sequence, asked only for plans strictly better than the
-    incumbent (so "infeasible" proves the incumbent optimal); with `then: tips` a second,
+    1995) with order potentials for the sequence. For `height` on integer data it is a decision
+    version: feasibility models at H = bound, bound + 1, ... with open tops capped at H, so the
+    first feasible step is optimal; otherwise the model asks only for plans strictly better than
+    the incumbent (so "infeasible" proves the incumbent optimal). With `then: tips` a second,
     lexicographic solve. Every plan is replayed by `instances.checker.check_plan`.
 
     Result.status:
