@@ -216,14 +216,7 @@ def full_bar_lp(inst):
             boxes_in = [slices[j][0] for j in combo]
             if len(set(boxes_in)) == r and sum(slices[j][1][0] for j in combo) <= W:
                 patterns.append(combo)
-    A = np.zeros((n, len(patterns)))
-    for p, combo in enumerate(patterns):
-        for j in combo:
-            i, ext = slices[j]
-            A[i, p] += 1.0 / ext[1]
-    res = linprog(np.ones(len(patterns)), A_ub=-A, b_ub=-np.ones(n), bounds=(0, None), method="highs")
-    assert res.status == 0
-    return res.fun
+    return _covering_lp(n, patterns, slices, height_axis=1)
 
 
 @settings(max_examples=60, deadline=None)
@@ -270,14 +263,7 @@ def full_relaxed_bar_lp_3d(inst):
                 continue
             if all(beside(a, b) for a, b in combinations(who, 2)):
                 patterns.append(combo)
-    A = np.zeros((n, len(patterns)))
-    for p, combo in enumerate(patterns):
-        for j in combo:
-            i, ext = slices[j]
-            A[i, p] += 1.0 / ext[2]
-    res = linprog(np.ones(len(patterns)), A_ub=-A, b_ub=-np.ones(n), bounds=(0, None), method="highs")
-    assert res.status == 0
-    return res.fun
+    return _covering_lp(n, patterns, slices, height_axis=2)
 
 
 @settings(max_examples=40, deadline=None)
@@ -508,3 +494,15 @@ def test_docstring_examples_run():
 
     result = doctest.testmod(package)
     assert result.attempted > 0 and result.failed == 0
+
+
+def _covering_lp(n: int, patterns: list, slices: list, height_axis: int) -> float:
+    """The bar LP with every pattern written out: each box's height covered once, solved by scipy."""
+    A = np.zeros((n, len(patterns)))
+    for p, combo in enumerate(patterns):
+        for j in combo:
+            i, ext = slices[j]
+            A[i, p] += 1.0 / ext[height_axis]
+    res = linprog(np.ones(len(patterns)), A_ub=-A, b_ub=-np.ones(n), bounds=(0, None), method="highs")
+    assert res.status == 0
+    return res.fun
