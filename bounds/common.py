@@ -160,11 +160,6 @@ def ceil_count(value: float) -> float:
     return float(max(0, math.ceil(value - ROUND_EPS * max(1.0, abs(value)))))
 
 
-def footprint_area(ctype: ContainerType) -> float:
-    """Area (3D) or width (2D) of the container's base."""
-    return math.prod(ctype.footprint)
-
-
 def capacity(ctype: ContainerType) -> float:
     """Volume (area in 2D) of a closed container."""
     return math.prod(ctype.size)  # type: ignore[arg-type]
