@@ -276,8 +276,8 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
     """
     t0 = time.perf_counter()
     validate_options(instance, time_limit, backend, threads, seed, export_model)
-    p = prepare(instance)
     graph = precedence_graph(instance)
+    p = prepare(instance, graph)
     run = _Run(instance, p, graph, t0, float(time_limit))
     info = lambda: SolverInfo(backend=backend, version=backends.backend_version(backend), time_limit_s=float(time_limit),
                               seed=seed, time_s=round(run.milp_seconds, 3), nodes=run.nodes, threads=threads)

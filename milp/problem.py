@@ -86,16 +86,17 @@ def _fits(ext: tuple, size: tuple, tol: float) -> bool:
     return all(s is None or e <= s + tol for e, s in zip(ext, size))
 
 
-def _precedence(instance: Instance, n: int, index: dict[str, int]):
+def _precedence(instance: Instance, n: int, index: dict[str, int], graph: Optional[nx.DiGraph]):
     """Lift closure, face contacts and wall blocks from `instances.precedence` (none without a source)."""
     touching: list[dict[str, frozenset]] = [dict() for _ in range(n)]
     blocked: list[frozenset] = [frozenset() for _ in range(n)]
     before: set[tuple[int, int]] = set()
     if instance.source is None:
         return before, touching, blocked
-    from instances.precedence import precedence_graph
+    if graph is None:
+        from instances.precedence import precedence_graph
 
-    graph = precedence_graph(instance)
+        graph = precedence_graph(instance)
     lift = nx.DiGraph()
     lift.add_nodes_from(range(n))
     faces: list[dict[str, set]] = [dict() for _ in range(n)]
@@ -115,8 +116,11 @@ def _precedence(instance: Instance, n: int, index: dict[str, int]):
     return before, touching, blocked
 
 
-def prepare(instance: Instance) -> Problem:
-    """Index the instance, drop orientations that can never be used, close lift orders."""
+def prepare(instance: Instance, graph: Optional[nx.DiGraph] = None) -> Problem:
+    """Index the instance, drop orientations that can never be used, close lift orders.
+
+    `graph` is the instance's precedence graph when the caller already has it.
+    """
     tol = instance.rules.tolerance
     ids = [b.id for b in instance.boxes]
     index = {b: i for i, b in enumerate(ids)}
@@ -127,7 +131,7 @@ def prepare(instance: Instance) -> Problem:
         for k in range(ct.count):
             slots_of_type.setdefault(ct.id, []).append(len(slots))
             slots.append(Slot(ct.id, k, tuple(ct.size)))
-    before, touching, blocked = _precedence(instance, n, index)
+    before, touching, blocked = _precedence(instance, n, index, graph)
 
     ext: list[dict[str, tuple]] = []
     slots_of: list[list[int]] = []
