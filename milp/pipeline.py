@@ -16,7 +16,7 @@ from instances.errors import InputError
 from instances.model import Instance, Plan, Result, SolverInfo, TieBreak, relative_gap
 from instances.precedence import precedence_graph
 
-from . import backends, grid
+from . import backends, grid, special
 from .extract import extract_plan
 from .incumbent import Incumbent, best_incumbent
 from .model import build
@@ -218,6 +218,18 @@ def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool)
             return
 
 
+def _special_stage(run: _Run) -> None:
+    """Plans from special-structure finders (`milp.special`), each checked before it counts."""
+    if run.closed():
+        return
+    deadline = run.t0 + run.time_limit
+    for name, plan in special.special_plans(run.instance, run.problem, run.bound, deadline):
+        if run.offer(plan) and f"plan found by {name}" not in run.notes:
+            run.notes.append(f"plan found by {name}")
+        if run.closed():
+            return
+
+
 def _tips_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> tuple[int, bool]:
     """Fewest tipped boxes among plans with the proved main optimum (a second, lexicographic solve)."""
     p = run.problem
@@ -298,6 +310,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
         if export_model:
             _export(p, run, export_model)
+        _special_stage(run)
         if not run.closed() and run.left() > 0.05:
             if _use_decision(p):
                 _decision_stage(run, backend, threads, seed, log)
