@@ -7,7 +7,7 @@ import tempfile
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Optional
+from typing import Callable, Optional
 
 import pulp
 
@@ -60,6 +60,17 @@ class _Run:
     milp_seconds: float = 0.0
     interrupted: bool = False
     errors: list = field(default_factory=list)
+    progress: Optional[Callable[[dict], None]] = None
+
+    def report(self, stage: str) -> None:
+        """Tell the caller's progress callback where the solve stands (incumbent, bound, gap, elapsed)."""
+        if self.progress is None:
+            return
+        ub = self.upper
+        lb = min(self.bound, ub) if ub is not None else self.bound
+        self.progress({"stage": stage, "incumbent": ub, "bound": lb,
+                       "gap": None if ub is None else relative_gap(ub, lb),
+                       "elapsed": time.perf_counter() - self.t0})
 
     def left(self) -> float:
         return self.time_limit - (time.perf_counter() - self.t0)
@@ -163,6 +174,7 @@ def _main_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> 
             b = min(b, run.upper)
         run.bound = max(run.bound, round_bound(b, integral))
         run.bounds["milp"] = float(b)
+    run.report("milp")
 
 
 def _use_decision(p: Problem) -> bool:
@@ -216,6 +228,7 @@ def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool)
             run.bounds["milp"] = float(run.bound)
         else:
             return
+        run.report(f"height {target:g}")
 
 
 def _special_stage(run: _Run) -> None:
@@ -262,7 +275,8 @@ def _tips_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> 
 
 
 def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs", threads: int = 1,
-          seed: int = 0, log: bool = False, export_model: Optional[str] = None) -> Result:
+          seed: int = 0, log: bool = False, export_model: Optional[str] = None,
+          progress: Optional[Callable[[dict], None]] = None) -> Result:
     """Solve an unstack-and-pack instance to proved optimality, or report the best plan and the gap.
 
     Pipeline: validate options; index the instance and drop orientations that can never be used
@@ -290,7 +304,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
     validate_options(instance, time_limit, backend, threads, seed, export_model)
     graph = precedence_graph(instance)
     p = prepare(instance, graph)
-    run = _Run(instance, p, graph, t0, float(time_limit))
+    run = _Run(instance, p, graph, t0, float(time_limit), progress=progress)
     info = lambda: SolverInfo(backend=backend, version=backends.backend_version(backend), time_limit_s=float(time_limit),
                               seed=seed, time_s=round(run.milp_seconds, 3), nodes=run.nodes, threads=threads)
     if instance.rules.integer_positions:
@@ -301,6 +315,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
                       seconds=round(time.perf_counter() - t0, 3))
     try:
         _lower_bounds(run)
+        run.report("bounds")
         if math.isinf(run.bound):
             which = ", ".join(k for k, v in run.bounds.items() if math.isinf(v))
             run.notes.append(f"a lower bound proves that no plan exists ({which})")
@@ -308,9 +323,11 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
                           seconds=round(time.perf_counter() - t0, 3))
         budget = min(0.5, 0.02 * time_limit)
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
+        run.report("incumbent")
         if export_model:
             _export(p, run, export_model)
         _special_stage(run)
+        run.report("special")
         if not run.closed() and run.left() > 0.05:
             if _use_decision(p):
                 _decision_stage(run, backend, threads, seed, log)
