@@ -129,48 +129,86 @@ def _png(fig) -> str:
     return base64.b64encode(buf.getvalue()).decode("ascii")
 
 
-def plot_time_vs_n(records: Sequence[dict]) -> str:
+def _figure():
     import matplotlib
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    fig, ax = plt.subplots(figsize=(6.4, 4))
+    return plt.subplots(figsize=(6.4, 4))
+
+
+def _plain(value: float, _pos=None) -> str:
+    """A tick label as people write numbers: 0.5, 6, 200, 1e+06 only when very large or small."""
+    return f"{value:g}"
+
+
+def plain_log_axis(axis) -> None:
+    """Label a log axis with plain numbers (1, 2, 5, 10, 20, ...) instead of powers of ten."""
+    from matplotlib.ticker import FuncFormatter, LogLocator
+
+    axis.set_major_locator(LogLocator(base=10))
+    axis.set_major_formatter(FuncFormatter(_plain))
+    axis.set_minor_locator(LogLocator(base=10, subs=(2.0, 5.0)))
+    axis.set_minor_formatter(FuncFormatter(_plain))
+
+
+def plain_linear_axis(axis, integer: bool = False) -> None:
+    """Plain tick labels on a linear axis: no offset, no scientific factor; whole numbers for counts."""
+    from matplotlib.ticker import MaxNLocator, ScalarFormatter
+
+    fmt = ScalarFormatter(useOffset=False)
+    fmt.set_scientific(False)
+    axis.set_major_formatter(fmt)
+    if integer:
+        axis.set_major_locator(MaxNLocator(integer=True))
+
+
+def time_figure(records: Sequence[dict]):
+    """Seconds against the number of boxes, proven and not proven marked apart (log time axis)."""
+    fig, ax = _figure()
     for config, sets in sorted(grouped(records).items()):
-        rs = [r for per in sets.values() for r in per]
+        rs = [r for per in sets.values() for r in per if r.get("seconds") is not None]
         proven = [r for r in rs if is_proven(r)]
         other = [r for r in rs if not is_proven(r)]
-        line = ax.scatter([r["n"] for r in proven], [r["seconds"] for r in proven], marker="o", label=f"{config} (proven)")
-        ax.scatter([r["n"] for r in other], [r["seconds"] for r in other], marker="x", color=line.get_facecolor()[0] if proven else None,
-                   label=f"{config} (not proven)")
+        line = ax.scatter([r["n"] for r in proven], [max(r["seconds"], 1e-3) for r in proven], marker="o", label=f"{config} (proven)")
+        ax.scatter([r["n"] for r in other], [max(r["seconds"], 1e-3) for r in other], marker="x",
+                   color=line.get_facecolor()[0] if proven else None, label=f"{config} (not proven)")
     ax.set_xlabel("number of boxes n")
     ax.set_ylabel("wall-clock seconds (own process)")
     ax.set_yscale("log")
+    plain_log_axis(ax.yaxis)
+    plain_linear_axis(ax.xaxis, integer=True)
     ax.grid(True, alpha=0.3)
     ax.legend(fontsize=7)
-    return _png(fig)
+    return fig
+
+
+def plot_time_vs_n(records: Sequence[dict]) -> str:
+    return _png(time_figure(records))
+
+
+def gap_histogram(samples: Sequence[tuple[str, list[float]]], xlabel: str, bins: int = 20):
+    """Histogram of gaps per label; the count axis has whole-number ticks only."""
+    fig, ax = _figure()
+    samples = [(label, g) for label, g in samples if g]
+    if samples:
+        low = min(0.0, min(min(g) for _, g in samples))
+        top = max(low + 0.05, max(max(g) for _, g in samples))
+        ax.hist([g for _, g in samples], bins=bins, range=(low, top), label=[label for label, _ in samples])
+        ax.legend(fontsize=7)
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel("instances")
+    plain_linear_axis(ax.xaxis)
+    plain_linear_axis(ax.yaxis, integer=True)
+    ax.grid(True, alpha=0.3)
+    return fig
 
 
 def plot_gaps(records: Sequence[dict]) -> str:
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    fig, ax = plt.subplots(figsize=(6.4, 4))
-    data, labels = [], []
-    for config, sets in sorted(grouped(records).items()):
-        gaps = [r["gap"] for per in sets.values() for r in per if r.get("gap") is not None]
-        if gaps:
-            data.append(gaps)
-            labels.append(config)
-    if data:
-        ax.hist(data, bins=20, range=(0.0, max(0.05, max(max(d) for d in data))), label=labels)
-        ax.legend(fontsize=7)
-    ax.set_xlabel("relative gap (objective - bound) / objective")
-    ax.set_ylabel("instances")
-    ax.grid(True, alpha=0.3)
-    return _png(fig)
+    samples = [(config, [r["gap"] for per in sets.values() for r in per if r.get("gap") is not None])
+               for config, sets in sorted(grouped(records).items())]
+    return _png(gap_histogram(samples, "relative gap (objective - bound) / objective"))
 
 
 def profile_costs(records: Sequence[dict]) -> dict[str, dict[str, Optional[float]]]:
@@ -181,28 +219,30 @@ def profile_costs(records: Sequence[dict]) -> dict[str, dict[str, Optional[float
     return costs
 
 
-def plot_profiles(costs: Mapping[str, Mapping[str, Optional[float]]], xlabel: str) -> str:
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
+def profile_figure(costs: Mapping[str, Mapping[str, Optional[float]]], xlabel: str):
+    """Dolan-More performance profiles as step lines, tau on a log axis with plain labels."""
     prof = performance_profile(costs)
     top = max([p.ratios[-1] for p in prof.values() if p.ratios] + [1.0]) * 1.2
-    fig, ax = plt.subplots(figsize=(6.4, 4))
+    fig, ax = _figure()
     for name, p in sorted(prof.items()):
         xs = [1.0] + [x for r in p.ratios for x in (r, r)] + [top]
         ys = [0.0] + [y for k, s in enumerate(p.share) for y in ((p.share[k - 1] if k else 0.0), s)] + [p.share[-1] if p.share else 0.0]
         ax.plot(xs, ys, label=name)
     ax.set_xscale("log")
     ax.set_xlim(1.0, top)
+    plain_log_axis(ax.xaxis)
     ax.set_ylim(0.0, 1.02)
+    plain_linear_axis(ax.yaxis)
     ax.set_xlabel(xlabel)
     ax.set_ylabel("share of instances within factor tau of the best")
     ax.set_title("Performance profile (Dolan & More 2002)")
     ax.grid(True, alpha=0.3)
     ax.legend(fontsize=7)
-    return _png(fig)
+    return fig
+
+
+def plot_profiles(costs: Mapping[str, Mapping[str, Optional[float]]], xlabel: str) -> str:
+    return _png(profile_figure(costs, xlabel))
 
 
 # ---------------------------------------------------------------- report.html
@@ -295,11 +335,6 @@ def write_grade_report(out: str | Path, graded: Mapping[str, Sequence]) -> list[
     (label -> rows of `benchmarks.grade.Graded`), with a quality profile when several are compared."""
     from .grade import summary
 
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
     out = Path(out)
     out.mkdir(parents=True, exist_ok=True)
     buf = io.StringIO()
@@ -321,14 +356,8 @@ def write_grade_report(out: str | Path, graded: Mapping[str, Sequence]) -> list[
                      f"<td>{_fmt(s['mean_gap'], '.4f')}</td><td>{_fmt(s['median_gap'], '.4f')}</td><td>{_fmt(s['max_gap'], '.4f')}</td>"
                      f"<td>{e(reasons)}</td></tr>")
     parts.append("</table>")
-    fig, ax = plt.subplots(figsize=(6.4, 4))
-    data = [(label, [r.gap for r in rows if r.gap is not None]) for label, rows in graded.items()]
-    data = [(label, g) for label, g in data if g]
-    if data:
-        ax.hist([g for _, g in data], bins=20, label=[label for label, _ in data])
-        ax.legend(fontsize=7)
-    ax.set_xlabel("gap to the gold value (objective - gold) / objective")
-    ax.set_ylabel("instances")
+    fig = gap_histogram([(label, [r.gap for r in rows if r.gap is not None]) for label, rows in graded.items()],
+                        "gap to the gold value (objective - gold) / objective")
     parts.append(f"<h2>Gap distribution</h2><img alt='gaps' src='data:image/png;base64,{_png(fig)}'>")
     if len(graded) > 1:
         costs = {label: {r.key: (r.objective if r.feasible else None) for r in rows} for label, rows in graded.items()}

@@ -63,3 +63,55 @@ def test_summary_counts_and_tables():
     assert "differs from the known optimum 4" in md
     rows = list(csv.DictReader(io.StringIO(results_csv(recs))))
     assert [r["key"] for r in rows] == ["s1/a", "s1/b", "s1/c", "s2/d"] and rows[2]["objective"] == ""
+
+
+def _tick_texts(fig, axis: str) -> list[str]:
+    fig.canvas.draw()
+    ax = fig.axes[0]
+    ticks = ax.xaxis if axis == "x" else ax.yaxis
+    return [t.get_text() for t in ticks.get_ticklabels(which="both") if t.get_text() and t.get_visible()]
+
+
+def _close(fig):
+    import matplotlib.pyplot as plt
+
+    plt.close(fig)
+
+
+def test_time_axis_labels_are_plain_numbers():
+    """A log time axis spanning under one decade used to print minor ticks as '6x10^0'."""
+    from benchmarks.report import time_figure
+
+    recs = [record(f"s/i{k}", "optimal", 1.0, 1.0, seconds) for k, seconds in enumerate((2.5, 4.0, 6.5, 9.0))]
+    for k, r in enumerate(recs):
+        r["n"] = 5 + 3 * k
+    fig = time_figure(recs)
+    ys, xs = _tick_texts(fig, "y"), _tick_texts(fig, "x")
+    _close(fig)
+    assert ys and xs
+    for text in ys + xs:
+        assert "$" not in text and "10^" not in text and "\u00d7" not in text, text
+        float(text.replace("\u2212", "-"))  # a plain number
+    assert all(float(t.replace("\u2212", "-")).is_integer() for t in xs), xs
+
+
+def test_histogram_counts_are_whole_numbers():
+    from benchmarks.report import gap_histogram
+
+    fig = gap_histogram([("a", [0.01, 0.02]), ("b", [0.03])], "gap")
+    ys = _tick_texts(fig, "y")
+    _close(fig)
+    assert len(ys) >= 2
+    assert all(float(t.replace("\u2212", "-")).is_integer() for t in ys), ys
+
+
+def test_profile_axis_plain_numbers():
+    from benchmarks.report import profile_figure
+
+    fig = profile_figure({"a": {"p1": 1.0, "p2": 3.0}, "b": {"p1": 2.0, "p2": 1.0}}, "tau")
+    xs = _tick_texts(fig, "x")
+    _close(fig)
+    assert xs
+    for text in xs:
+        assert "$" not in text, text
+        float(text)
