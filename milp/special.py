@@ -28,3 +28,8 @@ def special_plans(instance: Instance, problem: Problem, lower: float, deadline: 
             return
         for plan in finder(instance, problem, lower, deadline):
             yield name, plan
+
+
+from . import binpack1d as _binpack1d  # noqa: E402  (a finder module registers after FINDERS exists)
+
+FINDERS.append(("1D bin packing (arc flow)", _binpack1d.plans_1d))

@@ -1,0 +1,491 @@
+"""One-dimensional bin packing recognised inside an instance, and solved exactly by arc flow.
+
+When every box, in every orientation it may use, is so long on all axes but one that no two
+boxes can ever be beside each other across those axes, two boxes sharing a container must be
+separated along the remaining axis: the instance is classic 1D bin packing along that axis
+(PROBLEM.md section 5 names the bin packing case). `recognise` returns the 1D data only when
+this holds for every rule and container mix, and only when a packing of the 1D answer can
+really be carried out (a move sequence that honours the source, supports that hold).
+
+The finder `plans_1d` proposes checked-plan candidates: first-fit and best-fit decreasing
+(Johnson 1974), a bin-completion search for exactly K = lower-bound bins, and the arc-flow
+model of Valério de Carvalho (1999), "Exact solution of bin-packing problems using column
+generation and branch-and-bound", Annals of Operations Research 86, on HiGHS. Its graph keeps
+only arcs that start at points reachable by larger-or-equal items (the paper's reduction
+criteria: normal-pattern points, items in decreasing order, at most d_t copies of a size).
+It never claims a proof: the pipeline checks each plan and proves optimality only by meeting a
+proved lower bound.
+
+Example:
+    >>> data = recognise(instance, problem)          # doctest: +SKIP
+    >>> data.lengths, data.capacity                   # doctest: +SKIP
+    ((419, 307, ...), 1000)
+"""
+from __future__ import annotations
+
+import math
+import time
+from collections import Counter
+from dataclasses import dataclass
+from typing import Iterator, Optional, Sequence
+
+import numpy as np
+
+from instances.model import Instance, Move, Plan, grip_needed, is_upright
+
+from .problem import Problem
+
+MAX_SCALE_DIGITS = 4  # sizes with up to 4 decimals are scaled to integers; finer data is not recognised
+SEARCH_SHARE = 0.25  # share of the time left given to the bin-completion search before the arc flow
+SEARCH_NODES = 200_000  # node limit of the bin-completion search
+
+
+@dataclass(frozen=True)
+class OneD:
+    """A recognised 1D bin packing instance and how to map a packing back to moves.
+
+    `lengths[i]` is box i's length (instance order) in units of 1/`scale` along `axis`;
+    a container holds any boxes whose lengths sum to at most `capacity`. `slots` are the
+    (type id, index) containers usable by every box, `orientation[i]` the orientation box i
+    is packed in, `order` a move sequence that every rule accepts whatever the bins.
+    """
+
+    lengths: tuple[int, ...]
+    capacity: int
+    scale: int
+    axis: int
+    slots: tuple[tuple[str, int], ...]
+    orientation: tuple[str, ...]
+    order: tuple[int, ...]
+
+    @property
+    def n(self) -> int:
+        return len(self.lengths)
+
+
+# ---------------------------------------------------------------- recognition
+
+
+def recognise(instance: Instance, problem: Problem) -> Optional[OneD]:
+    """The 1D data when the instance is exactly 1D bin packing under every rule; None otherwise.
+
+    Exact means both ways: every feasible plan packs, per container, boxes whose lengths (the
+    shortest along the packing axis over the orientations they may use) fit the capacity, and
+    every such assignment to containers can be carried out as a plan.
+    """
+    p, inst = problem, instance
+    if inst.objective.minimise != "bins" or p.infeasible_reason or p.n == 0:
+        return None
+    slots = _common_slots(p)
+    if slots is None:
+        return None
+    size = p.slots[slots[0]].size
+    tol = inst.rules.tolerance
+    for axis in range(p.dim):
+        if not _crosswise_exclusive(p, size, axis, tol):
+            continue
+        choice = _shortest_orientations(p, axis, tol)
+        if axis == p.dim - 1 and not _stack_supported(inst, p, choice, tol):
+            return None
+        scaled = _scaled(p, choice, axis, size[axis], tol, inst.rules.integer_positions)
+        if scaled is None:
+            return None
+        lengths, capacity, scale = scaled
+        picked = _sequence(inst, p, choice)
+        if picked is None:
+            return None
+        order, orientation = picked
+        return OneD(lengths, capacity, scale, axis, tuple((p.slots[k].type_id, p.slots[k].index) for k in slots),
+                    orientation, order)
+    return None
+
+
+def _common_slots(p: Problem) -> Optional[list[int]]:
+    """The containers open to every box, when all boxes share the same ones and they are alike."""
+    first = sorted(p.slots_of[0])
+    if not first or any(sorted(s) != first for s in p.slots_of):
+        return None
+    sizes = {p.slots[k].size for k in first}
+    if len(sizes) != 1 or any(s is None for s in next(iter(sizes))):
+        return None
+    return first
+
+
+def _crosswise_exclusive(p: Problem, size: tuple, axis: int, tol: float) -> bool:
+    """True when no two boxes fit beside each other along any axis but `axis`, in any orientations."""
+    if p.n < 2:
+        return True
+    for b in range(p.dim):
+        if b == axis:
+            continue
+        shortest = sorted(p.min_extent(i, b) for i in range(p.n))
+        # two boxes can be separated along b only if their extents add up to at most the container's
+        # (plus containment and overlap tolerances); a margin of 3 tol keeps the test on the safe side
+        if shortest[0] + shortest[1] <= size[b] + 3 * tol:
+            return False
+    return True
+
+
+def _shortest_orientations(p: Problem, axis: int, tol: float) -> list[list[str]]:
+    """Per box, the orientations of least extent along `axis`, upright ones first."""
+    out = []
+    for i in range(p.n):
+        least = p.min_extent(i, axis)
+        shortest = [o for o, e in p.ext[i].items() if e[axis] <= least + tol * 1e-3]
+        out.append(sorted(shortest, key=lambda o: not is_upright(o)))
+    return out
+
+
+def _stack_supported(inst: Instance, p: Problem, choice: list[list[str]], tol: float) -> bool:
+    """Packing along the vertical axis stacks boxes at the origin corner: the support rule must
+    hold for any two of them (rule `none`, or `center` with every half-extent on the lower box)."""
+    rule = inst.rules.support.rule
+    if rule == "none":
+        return True
+    if rule != "center":
+        return False
+    for b in range(p.dim - 1):
+        ext = [p.ext[i][o][b] for i in range(p.n) for o in choice[i]]
+        if max(ext) / 2 > min(ext) + tol:
+            return False
+    return True
+
+
+def _scaled(p: Problem, choice: list[list[str]], axis: int, cap: float, tol: float,
+            integer_positions: bool) -> Optional[tuple[tuple[int, ...], int, int]]:
+    """Integer lengths and capacity in units of 1/scale, or None when no small scale is exact or
+    the tolerance could change which sets fit."""
+    reals = [p.ext[i][choice[i][0]][axis] for i in range(p.n)]
+    for digits in range(MAX_SCALE_DIGITS + 1):
+        scale = 10 ** digits
+        if integer_positions and scale != 1:
+            return None  # cumulative positions would not be integers
+        ints = [round(r * scale) for r in reals]
+        if all(abs(r * scale - k) <= 1e-9 * max(1.0, abs(r * scale)) for r, k in zip(reals, ints)):
+            break
+    else:
+        return None
+    if any(k <= 0 for k in ints):
+        return None
+    capacity = math.floor((cap + tol) * scale + 1e-9)
+    # neighbours may overlap by less than tol each: the fitting sets must not depend on it
+    if math.floor((cap + (p.n + 1) * tol) * scale + 1e-9) != capacity:
+        return None
+    return tuple(ints), capacity, scale
+
+
+def _sequence(inst: Instance, p: Problem, choice: list[list[str]]) -> Optional[tuple[tuple[int, ...], tuple[str, ...]]]:
+    """A move order and orientations that honour the source (lift order, grips), whatever the bins.
+
+    Greedy list scheduling is exact here: a box that may move stays movable as others leave
+    (lift predecessors stay gone, a free face stays free), so if any order exists the greedy
+    one never gets stuck. None when it does.
+    """
+    if inst.source is None:
+        return tuple(range(p.n)), tuple(c[0] for c in choice)
+    from instances.precedence import grip_free, precedence_graph
+
+    graph = precedence_graph(inst)
+    side = inst.rules.access == "side-face"
+    lifts = [[j for j, _, k in graph.in_edges(p.ids[i], data="kind") if k == "lift"] for i in range(p.n)]
+    gone: set[str] = set()
+    order: list[int] = []
+    orientation: list[Optional[str]] = [None] * p.n
+    left = list(range(p.n))
+    while left:
+        for pos, i in enumerate(left):
+            if any(j not in gone for j in lifts[i]):
+                continue
+            usable = [o for o in choice[i] if is_upright(o) or not side or grip_free(graph, p.ids[i], grip_needed(o), gone)]
+            if usable:
+                orientation[i] = usable[0]
+                order.append(i)
+                gone.add(p.ids[i])
+                del left[pos]
+                break
+        else:
+            return None
+    return tuple(order), tuple(orientation)  # type: ignore[arg-type]
+
+
+# ---------------------------------------------------------------- plans
+
+
+def to_plan(instance: Instance, data: OneD, bins: Sequence[Sequence[int]]) -> Plan:
+    """Moves in `data.order`; each box beside (or, vertically, on) the earlier ones in its bin."""
+    where = {i: k for k, members in enumerate(bins) for i in members}
+    fill = [0.0] * len(bins)
+    moves = []
+    for i in data.order:
+        box = instance.boxes[i]
+        o = data.orientation[i]
+        k = where[i]
+        at = [0.0] * instance.dim
+        at[data.axis] = fill[k]
+        fill[k] += box.extents(o)[data.axis]
+        moves.append(Move(box.id, data.slots[k], o, tuple(at), grip_needed(o)))
+    return Plan(instance.name, tuple(moves))
+
+
+def fit_decreasing(lengths: Sequence[int], capacity: int, best: bool) -> list[list[int]]:
+    """First-fit (best=False) or best-fit decreasing (Johnson 1974): bins as lists of item indices."""
+    bins: list[list[int]] = []
+    room: list[int] = []
+    for i in sorted(range(len(lengths)), key=lambda i: -lengths[i]):
+        w = lengths[i]
+        fits = [k for k, r in enumerate(room) if r >= w]
+        if not fits:
+            bins.append([i])
+            room.append(capacity - w)
+            continue
+        k = min(fits, key=lambda k: room[k]) if best else fits[0]
+        bins[k].append(i)
+        room[k] -= w
+    return bins
+
+
+def lower_bound_l2(lengths: Sequence[int], capacity: int) -> int:
+    """Martello & Toth (1990) bound L2 ("Knapsack problems", Wiley, section 8.3.1), with L1 = ceil(sum/C)."""
+    if not lengths:
+        return 0
+    best = math.ceil(sum(lengths) / capacity)
+    half = capacity / 2
+    for alpha in sorted({w for w in lengths if w <= half}) or [0]:
+        big = [w for w in lengths if w > capacity - alpha]
+        mid = [w for w in lengths if capacity - alpha >= w > half]
+        small = [w for w in lengths if half >= w >= alpha]
+        spare = len(mid) * capacity - sum(mid)
+        best = max(best, len(big) + len(mid) + max(0, math.ceil((sum(small) - spare) / capacity)))
+    return best
+
+
+# ---------------------------------------------------------------- bin completion for K bins
+
+
+class _OutOfBudget(Exception):
+    pass
+
+
+def complete_bins(lengths: Sequence[int], capacity: int, k: int, deadline: float,
+                  node_limit: int = SEARCH_NODES) -> Optional[list[list[int]]]:
+    """A packing into at most `k` bins by depth-first bin completion, or None (none found in budget).
+
+    Each bin is opened with the longest item left and filled with sets of the other sizes
+    (largest counts of larger sizes first); the waste of all bins together may not exceed
+    k * C - sum. Only a found packing is returned: a None proves nothing.
+    """
+    slack = k * capacity - sum(lengths)
+    if slack < 0 or (lengths and max(lengths) > capacity):
+        return None
+    sizes = sorted(set(lengths), reverse=True)
+    left = [0] * len(sizes)
+    at = {w: t for t, w in enumerate(sizes)}
+    for w in lengths:
+        left[at[w]] += 1
+    nodes = [0]
+
+    def fill(t: int, room: int, slack: int, chosen: list[int]) -> Iterator[list[int]]:
+        # every way to add items of sizes index >= t to a bin with `room` left, wasting <= slack
+        nodes[0] += 1
+        if nodes[0] > node_limit or (nodes[0] & 1023 == 0 and time.perf_counter() > deadline):
+            raise _OutOfBudget
+        while t < len(sizes) and (left[t] == 0 or sizes[t] > room):
+            t += 1
+        if t == len(sizes):
+            if room <= slack:
+                yield chosen
+            return
+        w = sizes[t]
+        for c in range(min(left[t], room // w), -1, -1):
+            left[t] -= c
+            yield from fill(t + 1, room - c * w, slack, chosen + [t] * c)
+            left[t] += c
+
+    failed: dict[tuple[int, ...], int] = {}  # items left -> largest slack with which they failed
+
+    def pack(bins_left: int, slack: int) -> Optional[list[list[int]]]:
+        first = next((t for t in range(len(sizes)) if left[t]), None)
+        if first is None:
+            return []
+        key = tuple(left)
+        if bins_left == 0 or failed.get(key, -1) >= slack:
+            return None
+        left[first] -= 1
+        try:
+            for chosen in fill(first, capacity - sizes[first], slack, [first]):
+                waste = capacity - sum(sizes[t] for t in chosen)
+                rest = pack(bins_left - 1, slack - waste)
+                if rest is not None:
+                    return [chosen] + rest
+        finally:
+            left[first] += 1
+        failed[key] = slack  # the bins left follow from the slack: same items, same slack, same answer
+        return None
+
+    try:
+        packed = pack(k, slack)
+    except _OutOfBudget:
+        return None
+    return None if packed is None else _assign(lengths, [[sizes[t] for t in b] for b in packed])
+
+
+def _assign(lengths: Sequence[int], bins_of_sizes: list[list[int]]) -> list[list[int]]:
+    """Concrete item indices for bins given as lists of sizes (each item used once)."""
+    pool: dict[int, list[int]] = {}
+    for i, w in enumerate(lengths):
+        pool.setdefault(w, []).append(i)
+    return [[pool[w].pop() for w in b] for b in bins_of_sizes]
+
+
+# ---------------------------------------------------------------- arc flow
+
+
+@dataclass(frozen=True)
+class ArcFlowResult:
+    """What the arc-flow MILP found: bins (item indices) or None, and HiGHS's proved bound."""
+
+    bins: Optional[list[list[int]]]
+    bound: float
+    proved: bool
+    arcs: int
+    nodes: int
+
+
+def arc_graph(lengths: Sequence[int], capacity: int) -> tuple[list[int], list[tuple[int, int, int]]]:
+    """Nodes and item arcs (tail, head, size index) of the reduced arc-flow graph.
+
+    Sizes are taken in decreasing order; an arc of size w starts only at a point reachable by
+    larger sizes plus fewer than d_w copies of w (Valério de Carvalho 1999, section 3).
+    """
+    demand = Counter(lengths)
+    sizes = sorted(demand, reverse=True)
+    reach = {0}
+    arcs: list[tuple[int, int, int]] = []
+    for t, w in enumerate(sizes):
+        level = set(reach)
+        seen: set[int] = set()
+        for _ in range(demand[w]):
+            level = {u for u in level if u + w <= capacity and u not in seen}
+            if not level:
+                break
+            seen |= level
+            arcs.extend((u, u + w, t) for u in level)
+            level = {u + w for u in level}
+            reach |= level
+    return sorted(reach | {capacity}), arcs
+
+
+def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, deadline: float) -> ArcFlowResult:
+    """Minimise the bins of the arc-flow model (at most `upper`, at least the proved `lower`)."""
+    import highspy
+
+    from bounds.contiguous import _quiet_highs
+
+    demand = Counter(lengths)
+    sizes = sorted(demand, reverse=True)
+    nodes, arcs = arc_graph(lengths, capacity)
+    row_of = {v: r for r, v in enumerate(v for v in nodes if v not in (0, capacity))}
+    n_flow = len(row_of)
+    # loss arcs: from every inner point straight to the end (the bin's unused room)
+    arcs = arcs + [(v, capacity, -1) for v in row_of]
+    m = len(arcs)
+    rows: list[int] = []
+    cols: list[int] = []
+    vals: list[float] = []
+    for k, (u, v, t) in enumerate(arcs):
+        if u in row_of:
+            rows.append(row_of[u]), cols.append(k), vals.append(-1.0)
+        if v in row_of:
+            rows.append(row_of[v]), cols.append(k), vals.append(1.0)
+        if t >= 0:
+            rows.append(n_flow + t), cols.append(k), vals.append(1.0)
+        if u == 0:
+            rows.append(n_flow + len(sizes)), cols.append(k), vals.append(1.0)
+    from scipy.sparse import coo_matrix
+
+    n_rows = n_flow + len(sizes) + 1
+    A = coo_matrix((vals, (rows, cols)), shape=(n_rows, m)).tocsc()
+    row_lo = np.concatenate([np.zeros(n_flow), [float(demand[w]) for w in sizes], [float(lower)]])
+    row_hi = np.concatenate([np.zeros(n_flow), [float(demand[w]) for w in sizes], [float(upper)]])
+    cost = np.array([1.0 if u == 0 else 0.0 for u, _, _ in arcs])
+    h = _quiet_highs()
+    h.setOptionValue("time_limit", max(0.05, deadline - time.perf_counter()))
+    h.setOptionValue("threads", 1)
+    h.setOptionValue("mip_rel_gap", 0.0)
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = m, n_rows
+    lp.col_cost_, lp.col_lower_, lp.col_upper_ = cost, np.zeros(m), np.full(m, float(upper))
+    lp.row_lower_, lp.row_upper_ = row_lo, row_hi
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
+    lp.a_matrix_.start_, lp.a_matrix_.index_, lp.a_matrix_.value_ = A.indptr, A.indices, A.data
+    lp.integrality_ = [highspy.HighsVarType.kInteger] * m
+    h.passModel(lp)
+    h.run()
+    status = h.getModelStatus()
+    info = h.getInfo()
+    proved = status in (highspy.HighsModelStatus.kOptimal, highspy.HighsModelStatus.kInfeasible)
+    bound = math.inf if status == highspy.HighsModelStatus.kInfeasible else float(info.mip_dual_bound)
+    bins = None
+    if info.primal_solution_status == highspy.SolutionStatus.kSolutionStatusFeasible:
+        flow = np.rint(np.asarray(h.getSolution().col_value)).astype(int)
+        bins = _assign(lengths, _decompose(arcs, flow, sizes, demand, capacity))
+    return ArcFlowResult(bins, bound, proved, m, len(nodes))
+
+
+def _decompose(arcs: list[tuple[int, int, int]], flow: np.ndarray, sizes: list[int], demand: Counter,
+               capacity: int) -> list[list[int]]:
+    """Split an integer flow into paths 0 -> C, one bin each, as lists of sizes."""
+    out: dict[int, list[int]] = {}
+    for k, (u, _, _) in enumerate(arcs):
+        if flow[k] > 0:
+            out.setdefault(u, []).append(k)
+    flow = flow.copy()
+    bins: list[list[int]] = []
+    while True:
+        start = next((k for k in out.get(0, []) if flow[k] > 0), None)
+        if start is None:
+            return bins
+        path, k = [], start
+        while True:
+            flow[k] -= 1
+            u, v, t = arcs[k]
+            if t >= 0:
+                path.append(sizes[t])
+            if v == capacity:
+                break
+            k = next(k for k in out[v] if flow[k] > 0)
+        bins.append(path)
+
+
+# ---------------------------------------------------------------- the finder
+
+
+def plans_1d(instance: Instance, problem: Problem, lower: float, deadline: float) -> Iterator[Plan]:
+    """Checked-plan candidates for a recognised 1D bin packing instance, best last; nothing otherwise."""
+    data = recognise(instance, problem)
+    if data is None:
+        return
+    lengths, cap, count = list(data.lengths), data.capacity, len(data.slots)
+    target = max(lower_bound_l2(lengths, cap), math.ceil(lower - 1e-6) if math.isfinite(lower) else 0)
+    best = min((fit_decreasing(lengths, cap, b) for b in (False, True)), key=len)
+    if len(best) <= count:
+        yield to_plan(instance, data, best)
+    if len(best) <= target or time.perf_counter() >= deadline:
+        return
+    share = time.perf_counter() + SEARCH_SHARE * (deadline - time.perf_counter())
+    for k in range(target, min(len(best), count + 1)):
+        if time.perf_counter() >= share:
+            break
+        found = complete_bins(lengths, cap, k, share)
+        if found is not None:
+            yield to_plan(instance, data, found)
+            if k <= target:
+                return
+            best = found
+            break
+    upper = min(len(best) - 1, count)
+    if upper < target or time.perf_counter() >= deadline:
+        return
+    result = arc_flow(lengths, cap, target, upper, deadline)
+    if result.bins is not None:
+        yield to_plan(instance, data, result.bins)
