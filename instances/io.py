@@ -9,6 +9,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import stat
 import tempfile
 from functools import lru_cache
 from pathlib import Path
@@ -26,6 +27,8 @@ from .model import (
     Move,
     Objective,
     Plan,
+    ProofStep,
+    Provenance,
     Result,
     Rules,
     SolverInfo,
@@ -82,7 +85,7 @@ def _describe(error: jsonschema.ValidationError) -> tuple[str, str]:
 
 def _check_schema(doc: Any, kind: str, file: Optional[str]) -> None:
     if not isinstance(doc, dict):
-        raise InputError.one(file, "$", f"a {kind} document must be a JSON object")
+        raise InputError.one(file, "$", f"{'an' if kind == 'instance' else 'a'} {kind} document must be a JSON object")
     fmt = doc.get("format")
     if fmt != f"stackproof/{kind}":
         raise InputError.one(file, "format", f"must be \"stackproof/{kind}\", got {json.dumps(fmt)}")
@@ -235,7 +238,34 @@ def result_from_dict(doc: Any, file: Optional[str] = None) -> Result:
         solver=None if sv is None else SolverInfo(**sv),
         notes=tuple(doc.get("notes", ())),
         seconds=doc.get("seconds"),
+        provenance=_provenance_from_dict(doc.get("provenance")),
     )
+
+
+def _provenance_from_dict(doc: Optional[dict]) -> Optional[Provenance]:
+    if doc is None:
+        return None
+    return Provenance(
+        instance_sha256=doc["instance_sha256"], tool_version=doc["tool_version"],
+        solvers=dict(doc.get("solvers", {})), date=doc.get("date", ""),
+        proof=tuple(ProofStep(**step) for step in doc.get("proof", ())),
+    )
+
+
+def _provenance_to_dict(p: Optional[Provenance]) -> Optional[dict]:
+    if p is None:
+        return None
+    steps = [{k: v for k, v in vars(step).items() if v is not None} for step in p.proof]
+    return {"instance_sha256": p.instance_sha256, "tool_version": p.tool_version, "solvers": dict(p.solvers),
+            "date": p.date, "proof": steps}
+
+
+def instance_digest(instance: Instance) -> str:
+    """SHA-256 of the instance's canonical JSON (keys sorted, no spaces): the same data, the same hash."""
+    import hashlib
+
+    text = json.dumps(instance_to_dict(instance), sort_keys=True, separators=(",", ":"), allow_nan=False)
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
 # ---------------------------------------------------------------- model -> dict
@@ -326,6 +356,7 @@ def result_to_dict(result: Result) -> dict:
         "solver": solver,
         "notes": list(result.notes),
         "seconds": result.seconds,
+        **({} if result.provenance is None else {"provenance": _provenance_to_dict(result.provenance)}),
     }
 
 
@@ -336,14 +367,42 @@ def dumps(doc: Any) -> str:
     return json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
+def _umask() -> int:
+    """The process umask, read without changing it (Linux /proc); else set-and-restore."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+def file_mode(target: Path) -> int:
+    """The one permission rule for every file the tool writes, as for a plain `open(path, "w")`:
+    a new file gets 0666 minus the umask; a file that is replaced keeps its mode."""
+    try:
+        return stat.S_IMODE(target.stat().st_mode)
+    except OSError:
+        return 0o666 & ~_umask()
+
+
 def write_bytes_atomic(path: PathLike, data: bytes) -> None:
-    """Write `data` so that `path` is either untouched or complete: temp file, fsync, rename."""
+    """Write `data` so that `path` is either untouched or complete: temp file, fsync, rename.
+
+    Permissions follow `file_mode` (the user's umask), not the temporary file's private 0600.
+    """
     target = Path(path)
     directory = target.parent if str(target.parent) else Path(".")
     directory.mkdir(parents=True, exist_ok=True)
+    mode = file_mode(target)
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=directory)
     try:
         with os.fdopen(fd, "wb") as fh:
+            os.fchmod(fh.fileno(), mode)
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
@@ -364,3 +423,53 @@ def write_text_atomic(path: PathLike, text: str) -> None:
 def write_json(path: PathLike, doc: Any) -> None:
     """Write a JSON document atomically."""
     write_text_atomic(path, dumps(doc))
+
+
+def check_output(path: PathLike, option: str, *, folder: bool = False, append: bool = False) -> Path:
+    """Fail fast, before any long work, when `path` cannot be written: an InputError naming the
+    option and the path (exit 2 in the CLI). Nothing is created or changed.
+
+    A file output must not be an existing folder (nor a folder output an existing file); a file
+    opened for `append` must be writable; otherwise the nearest existing folder on the way must take
+    a new file, which is probed by creating and removing an empty temporary file (this catches
+    read-only file systems and missing permissions, also for root).
+    """
+    target = Path(path)
+    file = str(path)
+
+    def fail(message: str):
+        raise InputError(file, [(option, message)])
+
+    if not file:
+        fail("is empty; give a path")
+    if folder and target.exists() and not target.is_dir():
+        fail("is a file, not a folder")
+    if not folder and target.is_dir():
+        fail("is a folder; give a file name")
+    if append and target.is_file():
+        try:
+            with open(target, "ab"):
+                pass
+        except OSError as exc:
+            fail(f"cannot be appended to ({_reason(exc)})")
+        return target
+    place = target if folder else target.parent
+    nearest = place
+    while not nearest.exists() and nearest != nearest.parent:
+        nearest = nearest.parent
+    if not nearest.is_dir():
+        fail(f"cannot create folder {place}: {nearest} is a file")
+    try:
+        fd, probe = tempfile.mkstemp(prefix=".stackproof-probe-", dir=nearest)
+        os.close(fd)
+        os.unlink(probe)
+    except OSError as exc:
+        if nearest == place:
+            fail(f"cannot write in folder {place} ({_reason(exc)})")
+        fail(f"folder {place} is missing and cannot be created in {nearest} ({_reason(exc)})")
+    return target
+
+
+def _reason(exc: OSError) -> str:
+    """An OS error in plain lower-case words (`read-only file system`), without the Python repr."""
+    return (exc.strerror or type(exc).__name__).lower()

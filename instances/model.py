@@ -199,6 +199,34 @@ class SolverInfo:
 
 
 @dataclass(frozen=True)
+class ProofStep:
+    """One step of a certificate: what was established, how, and how it was confirmed.
+
+    `claim` is in words ("no plan has height <= 7"); `method` names the bound or model; `solver`
+    the program that decided it (None for arithmetic); `confirmed_by` the independent second
+    solve that agreed (None when no solver was involved, so there was nothing to confirm).
+    """
+
+    claim: str
+    method: str
+    solver: Optional[str] = None
+    confirmed_by: Optional[str] = None
+    seconds: Optional[float] = None
+
+
+@dataclass(frozen=True)
+class Provenance:
+    """Where a result comes from: which instance (hash of its canonical form), which tool and
+    solver versions, when, and the proof steps behind its bound."""
+
+    instance_sha256: str
+    tool_version: str
+    solvers: dict[str, str] = field(default_factory=dict)
+    date: str = ""
+    proof: tuple[ProofStep, ...] = ()
+
+
+@dataclass(frozen=True)
 class Result:
     """What a solve returns (FORMATS.md "Result").
 
@@ -218,6 +246,7 @@ class Result:
     solver: Optional[SolverInfo] = None
     notes: tuple[str, ...] = ()
     seconds: Optional[float] = None
+    provenance: Optional[Provenance] = None
 
 
 def relative_gap(objective: Optional[float], bound: Optional[float]) -> Optional[float]:

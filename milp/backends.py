@@ -81,18 +81,34 @@ class _Highs(pulp.HiGHS):
             self.interrupted = True
 
 
+#: The solver versions the proofs were tested with (pinned in pyproject.toml).
+TESTED = {"highspy": "1.16.0", "PuLP": "3.3.2"}
+
+
+def confirmer(backend: str) -> str:
+    """The independent second solve that must agree before a solver's proof counts.
+
+    HiGHS's answer is re-derived by HiGHS with presolve off (the presolve is where a wrong
+    "infeasible" was seen, highspy 1.16.0); CBC's answer by HiGHS with presolve off (the other
+    backend). Returns a label for the notes and the proof steps.
+    """
+    return f"{backend_version('highs')}, presolve off"
+
+
 def run(lp: pulp.LpProblem, *, backend: str = "highs", time_limit: float = 60.0, threads: int = 1,
-        seed: int = 0, log: bool = False, integral: bool = False) -> Outcome:
+        seed: int = 0, log: bool = False, integral: bool = False, presolve: bool = True) -> Outcome:
     """Solve `lp` (a minimisation) and report status, objective, proved bound and node count.
 
     `integral`: the objective takes integer values only, so the bound may be rounded up.
+    `presolve=False` switches HiGHS's presolve off (the confirming solve); CBC ignores it.
     """
     t0 = time.perf_counter()
     time_limit = max(0.05, float(time_limit))
     if backend == "highs":
+        extra = {} if presolve else {"presolve": "off"}
         solver = _Highs(
             msg=log, timeLimit=time_limit, threads=threads, gapRel=0.0, gapAbs=0.0 if not integral else 0.999,
-            random_seed=int(seed),
+            random_seed=int(seed), **extra,
         )
     elif backend == "cbc":
         solver = pulp.PULP_CBC_CMD(
@@ -140,3 +156,10 @@ def run(lp: pulp.LpProblem, *, backend: str = "highs", time_limit: float = 60.0,
     if status == "infeasible":
         bound = math.inf
     return Outcome(status, objective, bound, nodes, seconds, interrupted)
+
+
+def confirm(lp: pulp.LpProblem, *, time_limit: float, threads: int = 1, seed: int = 0, log: bool = False,
+            integral: bool = False) -> Outcome:
+    """Solve `lp` again, independently of the first answer (see `confirmer`): HiGHS, presolve off."""
+    return run(lp, backend="highs", time_limit=time_limit, threads=threads, seed=seed, log=log,
+               integral=integral, presolve=False)

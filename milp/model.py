@@ -97,6 +97,23 @@ class Builder:
     def bin(self, name: str) -> pulp.LpVariable:
         return self.var(name, 0, 1, "Binary")
 
+    # ---------------------------------------------------------------- big-M
+    def reach(self, i: int, ax: int) -> float:
+        """The farthest any point of box i can lie from the origin along ax: its largest usable container."""
+        return max(self.sizes[k][ax] for k in self.p.slots_of[i])
+
+    def big_m(self, ax: int, *boxes: int, margin: float = 0.0) -> float:
+        """Big-M for a disjunction between `boxes` along ax, valid whatever containers they end up in.
+
+        Invariant: in every solution each coordinate of box b (its position, centre, far side)
+        lies in [0, reach(b, ax)], because positions are non-negative and containment holds in
+        b's own container, whichever of b's containers that is. So a difference of two such
+        coordinates, plus a constant `margin`, never exceeds max reach + margin. Taking M over
+        the containers the boxes *share* instead is wrong: when the two sit in different
+        containers, the relaxed row would still cap the box in the larger one.
+        """
+        return max(self.reach(b, ax) for b in boxes) + margin
+
     # ---------------------------------------------------------------- expressions
     def ext(self, i: int, ax: int) -> Expr:
         """Extent of box i along axis ax, as chosen by its orientation."""
@@ -192,17 +209,18 @@ class Builder:
                 continue
             seps = []
             for ax in range(d):
-                big = max(self.sizes[k][ax] for k in shared)
+                room = max(self.sizes[k][ax] for k in shared)
                 for first, second in ((i, j), (j, i)):
-                    if p.min_extent(first, ax) + p.min_extent(second, ax) > big + self.tol:
-                        continue
+                    if p.min_extent(first, ax) + p.min_extent(second, ax) > room + self.tol:
+                        continue  # in no shared container can the two stand apart along ax
                     if ax == d - 1 and p.instance.rules.loading == "from-above" and (second, first) in p.before:
                         continue  # first below second needs first earlier, but second is fixed earlier
                     s = self.bin(f"s_{first}_{second}_{ax}")
                     self.sep[first, second, ax] = s
                     seps.append(s)
                     self.lp += (
-                        self.pos[first][ax] + self.ext(first, ax) <= self.pos[second][ax] + big * (1 - s),
+                        self.pos[first][ax] + self.ext(first, ax)
+                        <= self.pos[second][ax] + self.big_m(ax, first, second) * (1 - s),
                         f"sep_{first}_{second}_{ax}",
                     )
             both = [(k, self.a[i, k], self.a[j, k]) for k in shared]
@@ -239,8 +257,8 @@ class Builder:
     def _rests_on(self, i: int, j: int) -> pulp.LpVariable:
         """Binary: j is a supporter of i (same container, j earlier, j's top at i's bottom)."""
         s = self.bin(f"u_{i}_{j}")
-        big = self.vcap_of(i, j)
         z = self.p.dim - 1
+        big = self.big_m(z, i, j)
         self.lp += self.pos[i][z] - self.top(j) <= big * (1 - s), f"rest_hi_{i}_{j}"
         self.lp += self.top(j) - self.pos[i][z] <= big * (1 - s), f"rest_lo_{i}_{j}"
         self.same_slot(i, j, s, f"u_{i}_{j}")
@@ -248,21 +266,16 @@ class Builder:
         self.sup[i, j] = s
         return s
 
-    def vcap_of(self, i: int, j: int) -> float:
-        z = self.p.dim - 1
-        return max(self.sizes[k][z] for k in self.p.can_share(i, j))
-
     def _on_floor(self, i: int) -> pulp.LpVariable:
         f = self.bin(f"f_{i}")
         z = self.p.dim - 1
-        big = max(self.sizes[k][z] for k in self.p.slots_of[i])
-        self.lp += self.pos[i][z] <= big * (1 - f), f"floor_{i}"
+        self.lp += self.pos[i][z] <= self.big_m(z, i) * (1 - f), f"floor_{i}"
         self.floor[i] = f
         return f
 
     def _within(self, i: int, j: int, ax: int, point: Expr, s, label: str, strict_lo=0.0, strict_hi=0.0) -> None:
         """When s is 1: j's lo + strict_lo <= point <= j's hi - strict_hi along horizontal axis ax."""
-        big = max(self.sizes[k][ax] for k in self.p.can_share(i, j))
+        big = self.big_m(ax, i, j, margin=max(strict_lo, strict_hi))
         self.lp += self.pos[j][ax] + strict_lo <= point + big * (1 - s), f"in_lo_{label}"
         self.lp += point <= self.pos[j][ax] + self.ext(j, ax) - strict_hi + big * (1 - s), f"in_hi_{label}"
 
@@ -353,7 +366,7 @@ class Builder:
         lbl = f"{i}_{j}_{ax}"
         self.lp += ov <= cap * s, f"ov_s_{lbl}"
         # the two reach terms go negative for boxes apart: relax them unless j supports i
-        big = max(self.sizes[k][ax] for k in self.p.can_share(i, j))
+        big = self.big_m(ax, i, j)
         self.lp += ov <= self.pos[j][ax] + self.ext(j, ax) - self.pos[i][ax] + big * (1 - s), f"ov_a_{lbl}"
         self.lp += ov <= self.pos[i][ax] + self.ext(i, ax) - self.pos[j][ax] + big * (1 - s), f"ov_b_{lbl}"
         self.lp += ov <= self.ext(i, ax), f"ov_c_{lbl}"
@@ -460,7 +473,7 @@ class Builder:
                 continue
             hk = self.var(f"hk_{k}", lowBound=0, upBound=self.sizes[k][z])
             for i in members:
-                self.lp += self.top(i) <= hk + self.sizes[k][z] * (1 - self.a[i, k]), f"hk_{k}_{i}"
+                self.lp += self.top(i) <= hk + self.big_m(z, i) * (1 - self.a[i, k]), f"hk_{k}_{i}"
             hs.append(hk)
         total = pulp.lpSum(hs)
         self.lp += total >= lower, "height_sum_lower"

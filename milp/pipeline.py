@@ -13,7 +13,8 @@ import pulp
 
 from instances.checker import check_plan
 from instances.errors import InputError
-from instances.model import Instance, Plan, Result, SolverInfo, TieBreak, relative_gap
+from instances.io import instance_digest
+from instances.model import Instance, Plan, ProofStep, Provenance, Result, SolverInfo, TieBreak, relative_gap
 from instances.precedence import precedence_graph
 
 from . import backends, grid, special
@@ -61,6 +62,11 @@ class _Run:
     interrupted: bool = False
     errors: list = field(default_factory=list)
     progress: Optional[Callable[[dict], None]] = None
+    steps: list = field(default_factory=list)  # ProofStep: how the bound was established
+    backend: str = "highs"
+    threads: int = 1
+    seed: int = 0
+    log: bool = False
 
     def report(self, stage: str) -> None:
         """Tell the caller's progress callback where the solve stands (incumbent, bound, gap, elapsed)."""
@@ -95,6 +101,74 @@ class _Run:
         ub = self.upper
         return ub is not None and ub <= self.bound + 1e-9 * max(1.0, abs(ub))
 
+    def share(self) -> float:
+        """Time for a solve whose answer may need confirming: the rest is kept for the second solve."""
+        return max(0.1, PRIMARY_SHARE * self.left())
+
+    def solve(self, lp: pulp.LpProblem, *, integral: bool, time_limit: Optional[float] = None) -> backends.Outcome:
+        """One backend run with this solve's options, its nodes and time added to the totals."""
+        out = backends.run(lp, backend=self.backend, time_limit=self.share() if time_limit is None else time_limit,
+                           threads=self.threads, seed=self.seed, log=self.log, integral=integral)
+        self._count(out)
+        return out
+
+    def _count(self, out: backends.Outcome) -> None:
+        self.nodes += out.nodes or 0
+        self.milp_seconds += out.seconds
+        self.interrupted = self.interrupted or out.interrupted
+
+    def confirmed(self, lp: pulp.LpProblem, out: backends.Outcome, *, integral: bool, what: str,
+                  extract: Optional[Callable[[], Plan]] = None) -> Optional[float]:
+        """The lower bound on `lp`'s objective that `out` AND an independent second solve establish.
+
+        math.inf when both say infeasible; None when the second solve does not finish or the two
+        disagree (one finds a solution the other calls impossible, or proves a bound above the
+        other's solution): then nothing is claimed, and the notes say so. A solution found by
+        the second solve is still offered to the checker. `what` names the step in the notes.
+        """
+        if out.bound is None:
+            return None
+        second = backends.confirm(lp, time_limit=max(0.1, self.left()), threads=self.threads, seed=self.seed,
+                                  log=self.log, integral=integral)
+        self._count(second)
+        label = backends.confirmer(self.backend)
+        if second.objective is not None and extract is not None and second.status in ("optimal", "feasible"):
+            self.offer(extract())
+        slack = 1e-6 * max(1.0, abs(out.objective or 0.0), abs(second.objective or 0.0))
+        clash = ((out.status == "infeasible" and second.objective is not None)
+                 or (second.status == "infeasible" and out.objective is not None)
+                 or (second.bound is not None and out.objective is not None and second.bound > out.objective + slack)
+                 or (second.objective is not None and out.bound > second.objective + slack))
+        if clash:
+            self.notes.append(f"solvers disagree on {what}: {backends.backend_version(self.backend)} says "
+                              f"{out.status}, {label} says {second.status}; nothing is claimed from it")
+            return None
+        if second.bound is None:
+            self.notes.append(f"{what}: {out.status} by {self.backend}, not confirmed ({label} ended "
+                              f"{second.status} at the time limit); not used as a proof")
+            return None
+        return min(out.bound, second.bound)
+
+    def prove(self, claim: str, method: str, *, solver: Optional[str] = None, confirmed_by: Optional[str] = None,
+              seconds: Optional[float] = None) -> None:
+        """Record one step of the certificate behind the bound."""
+        self.steps.append(ProofStep(claim, method, solver, confirmed_by,
+                                    None if seconds is None else round(seconds, 3)))
+
+    def raise_bound(self, value: float, claim: str, method: str, *, solver_run: bool, seconds: float = 0.0) -> None:
+        """Raise the proved bound to `value` (a confirmed step), recording how."""
+        if value <= self.bound:
+            return
+        self.bound = value
+        self.prove(claim, method,
+                   solver=backends.backend_version(self.backend) if solver_run else None,
+                   confirmed_by=backends.confirmer(self.backend) if solver_run else None,
+                   seconds=seconds)
+
+
+#: Share of the time left that a solve may use when its answer may have to be confirmed.
+PRIMARY_SHARE = 0.6
+
 
 def _safe_cap(p: Problem) -> float:
     """An open top never needs to be higher than all boxes stacked (gaps between levels can be closed)."""
@@ -118,7 +192,15 @@ def _lower_bounds(run: _Run) -> None:
         run.notes.append(f"lower bounds unavailable ({type(exc).__name__}: {exc}); using the model's own")
         return
     run.bounds.update({k: float(v) for k, v in named.items()})
-    run.bound = max(run.bound, round_bound(float(value), run.problem.integral_objective))
+    value = round_bound(float(value), run.problem.integral_objective)
+    if value > run.bound:
+        name = max(named, key=lambda k: named[k]) if named else "?"
+        kind = run.instance.objective.minimise
+        claim = "no plan exists" if math.isinf(value) else f"{kind} >= {value:g}"
+        how = ("HiGHS with presolve on and off, the weaker dual bound" if name == "contiguous"
+               else "exact arithmetic" if name != "bar" else "weak duality on the LP duals (Farley 1990)")
+        run.bound = value
+        run.prove(claim, f"lower bound '{name}' (bounds package)", confirmed_by=how)
 
 
 def _export(p: Problem, run: _Run, path: str) -> None:
@@ -141,8 +223,14 @@ def _export(p: Problem, run: _Run, path: str) -> None:
             os.unlink(tmp)
 
 
-def _main_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> None:
-    """Minimise the main objective below the incumbent; every solution is checked before it counts."""
+def _main_stage(run: _Run) -> None:
+    """Minimise the main objective below the incumbent; every solution is checked before it counts.
+
+    Integer objectives ask for plans strictly better than the incumbent (upper = incumbent - 1),
+    so a confirmed "infeasible" proves the incumbent optimal. Otherwise the model asks for plans
+    no worse than the incumbent: the checked incumbent is then a solution of the model, so
+    "infeasible" would contradict the checker and proves nothing (it is reported, never claimed).
+    """
     p = run.problem
     integral = p.integral_objective
     kind = p.instance.objective.minimise
@@ -155,25 +243,31 @@ def _main_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> 
         return
     vcap = cap if kind == "bins" else min(cap, upper)
     m = build(p, vcap=vcap, lower=run.bound, upper=upper)
-    out = backends.run(m.lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
-                       log=log, integral=integral)
-    run.nodes += out.nodes or 0
-    run.milp_seconds += out.seconds
-    run.interrupted = out.interrupted
+    out = run.solve(m.lp, integral=integral)
     run.notes.extend(r for r in m.restrictions if r not in run.notes)
     if out.objective is not None and out.status in ("optimal", "feasible"):
         run.offer(extract_plan(m))
-    if not m.exact:
+    if not m.exact or out.bound is None:
         return  # a restricted model proves nothing about the full problem
-    if out.status == "infeasible":
-        # nothing strictly better than the incumbent (or nothing at all) exists
-        run.bound = max(run.bound, run.upper if run.upper is not None else math.inf)
-    elif out.bound is not None:
-        b = out.bound if out.status != "optimal" else out.objective
-        if run.upper is not None:
-            b = min(b, run.upper)
-        run.bound = max(run.bound, round_bound(b, integral))
-        run.bounds["milp"] = float(b)
+    if out.status == "infeasible" and not integral and run.upper is not None:
+        run.notes.append("the model found no plan as good as the checked incumbent (a model restriction or a "
+                         "solver error); nothing is claimed from it")
+        return
+    t0 = time.perf_counter()
+    what = f"{kind} in [{run.bound:g}, {upper:g}]"
+    got = run.confirmed(m.lp, out, integral=integral, what=what, extract=lambda: extract_plan(m))
+    if got is None:
+        return
+    if math.isinf(got):
+        # no plan with objective <= upper; with an incumbent that is upper + 1 (integral) or no plan at all
+        value = run.upper if run.upper is not None else math.inf
+        claim = "no plan exists" if math.isinf(value) else f"no plan has {kind} <= {upper:g}"
+    else:
+        value = round_bound(min(got, run.upper) if run.upper is not None else got, integral)
+        claim = f"{kind} >= {value:g}"
+        run.bounds["milp"] = float(value)
+    run.raise_bound(value, claim, "relative-position MILP (milp.model)", solver_run=True,
+                    seconds=out.seconds + time.perf_counter() - t0)
     run.report("milp")
 
 
@@ -183,11 +277,12 @@ def _use_decision(p: Problem) -> bool:
     return p.integral_objective and p.instance.objective.minimise == "height"
 
 
-def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> None:
+def _decision_stage(run: _Run) -> None:
     """Height on integer data: feasibility models at H = bound, bound + 1, ... below the incumbent.
 
-    Each step caps every open top at the target height (the tightest big-M); an infeasible step
-    proves the bound up by one, a feasible one is optimal because every lower target failed.
+    Each step caps every open top at the target height (the tightest big-M); a confirmed
+    infeasible step proves the bound up by one, a feasible one is optimal because every lower
+    target failed.
     """
     p = run.problem
     cap = _safe_cap(p)
@@ -195,28 +290,30 @@ def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool)
         cap = min(cap, max(slot.size[-1] for slot in p.slots))  # no box top can be above that
     z = p.dim - 1
     # model-internal: every box stands somewhere, so H is at least the lowest extent of the tallest box
-    run.bound = max(run.bound, round_bound(max(p.min_extent(i, z) for i in range(p.n)), True))
+    tallest = round_bound(max(p.min_extent(i, z) for i in range(p.n)), True)
+    run.raise_bound(tallest, f"height >= {tallest:g}", "a box's lowest usable orientation (arithmetic)",
+                    solver_run=False)
     while not run.closed() and run.left() > 0.05 and not run.interrupted:
         target = run.bound
         if target > cap + 1e-9:
             if run.upper is None:
-                run.bound = math.inf  # every height up to the cap failed: no plan exists
+                run.raise_bound(math.inf, "no plan exists",
+                                f"every height up to {cap:g} was shown infeasible, and no plan needs more",
+                                solver_run=False)
             return
         use_grid = (grid.applies(p) and grid.is_perfect(p, int(target))
                     and grid.size_estimate(p, int(target)) <= grid.MAX_NONZEROS)
         if use_grid:
             g = grid.build_grid(p, int(target))
             lp, exact, restrictions, extract = g.lp, True, [], (lambda g=g: grid.grid_plan(p, g))
+            method = "position-indexed model on normal patterns (milp.grid, Beasley 1985)"
             if not any(n.startswith("perfect-packing") for n in run.notes):
                 run.notes.append("perfect-packing step: position-indexed model on normal patterns (Beasley 1985)")
         else:
             m = build(p, vcap=target, lower=0.0, upper=target, goal="feasible")
             lp, exact, restrictions, extract = m.lp, m.exact, m.restrictions, (lambda m=m: extract_plan(m))
-        out = backends.run(lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
-                           log=log, integral=True)
-        run.nodes += out.nodes or 0
-        run.milp_seconds += out.seconds
-        run.interrupted = out.interrupted
+            method = "relative-position MILP, decision version (milp.model)"
+        out = run.solve(lp, integral=True)
         run.notes.extend(r for r in restrictions if r not in run.notes)
         if out.objective is not None and out.status in ("optimal", "feasible"):
             if not run.offer(extract()):
@@ -224,7 +321,12 @@ def _decision_stage(run: _Run, backend: str, threads: int, seed: int, log: bool)
             if run.upper is not None and run.upper > target + 1e-9:
                 return  # the checked plan scores above the target: do not claim more than it shows
         elif out.status == "infeasible" and exact:
-            run.bound = target + 1
+            t0 = time.perf_counter()
+            got = run.confirmed(lp, out, integral=True, what=f"height <= {target:g}", extract=extract)
+            if got is None or not math.isinf(got):
+                return
+            run.raise_bound(target + 1, f"no plan has height <= {target:g}", f"{method}, H = {target:g}",
+                            solver_run=True, seconds=out.seconds + time.perf_counter() - t0)
             run.bounds["milp"] = float(run.bound)
         else:
             return
@@ -243,7 +345,7 @@ def _special_stage(run: _Run) -> None:
             return
 
 
-def _tips_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> tuple[int, bool]:
+def _tips_stage(run: _Run) -> tuple[int, bool]:
     """Fewest tipped boxes among plans with the proved main optimum (a second, lexicographic solve)."""
     p = run.problem
     tips = run.best.report.tips
@@ -257,20 +359,27 @@ def _tips_stage(run: _Run, backend: str, threads: int, seed: int, log: bool) -> 
     vcap = _safe_cap(p) if kind == "bins" else min(_safe_cap(p), opt + slack)
     m = build(p, vcap=vcap, lower=run.bound, upper=opt + slack, goal="tips", main_cap=opt + slack)
     m.lp += m.tips <= tips - 1, "fewer_tips"
-    out = backends.run(m.lp, backend=backend, time_limit=max(0.1, run.left()), threads=threads, seed=seed,
-                       log=log, integral=True)
-    run.nodes += out.nodes or 0
-    run.milp_seconds += out.seconds
-    run.interrupted = out.interrupted
-    if out.objective is not None and out.status in ("optimal", "feasible"):
+    out = run.solve(m.lp, integral=True)
+
+    def better() -> None:
         plan = extract_plan(m)
         report = check_plan(p.instance, plan, run.graph)
-        if report.feasible and report.objective <= opt + slack + 1e-9 and report.tips < tips:
+        if report.feasible and report.objective <= opt + slack + 1e-9 and report.tips < run.best.report.tips:
             run.best = Incumbent(plan, report)
-            tips = report.tips
         elif not report.feasible:
             run.errors.extend(f"checker rejected the tie-break plan: {v.rule}: {v.detail}" for v in report.violations)
-    proved = m.exact and out.status in ("optimal", "infeasible")
+
+    if out.objective is not None and out.status in ("optimal", "feasible"):
+        better()
+    if not m.exact or out.status not in ("optimal", "infeasible"):
+        return run.best.report.tips, False
+    got = run.confirmed(m.lp, out, integral=True, what=f"tips below {tips}", extract=lambda: extract_plan(m))
+    tips = run.best.report.tips
+    proved = got is not None and round_bound(got, True) >= tips
+    if proved:
+        run.prove(f"no plan with {kind} {opt:g} tips fewer than {tips} boxes", "tie-break MILP (milp.model)",
+                  solver=backends.backend_version(run.backend), confirmed_by=backends.confirmer(run.backend),
+                  seconds=out.seconds)
     return tips, proved
 
 
@@ -304,23 +413,31 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
     validate_options(instance, time_limit, backend, threads, seed, export_model)
     graph = precedence_graph(instance)
     p = prepare(instance, graph)
-    run = _Run(instance, p, graph, t0, float(time_limit), progress=progress)
+    run = _Run(instance, p, graph, t0, float(time_limit), progress=progress, backend=backend, threads=threads,
+               seed=seed, log=log)
     info = lambda: SolverInfo(backend=backend, version=backends.backend_version(backend), time_limit_s=float(time_limit),
                               seed=seed, time_s=round(run.milp_seconds, 3), nodes=run.nodes, threads=threads)
+    seconds = lambda: round(time.perf_counter() - t0, 3)
+
+    def result(status: str, **kw) -> Result:
+        if seconds() > time_limit + max(2.0, 0.1 * time_limit):
+            run.notes.append(f"time limit overrun: {seconds():g} s against {time_limit:g} s")
+        return Result(instance.name, status, bounds=run.bounds, notes=tuple(run.notes), solver=info(),
+                      seconds=seconds(), provenance=_provenance(instance, run), **kw)
+
     if instance.rules.integer_positions:
         run.notes.append("positions restricted to integers")
     if p.infeasible_reason:
         run.notes.append(p.infeasible_reason)
-        return Result(instance.name, "infeasible", bound=None, notes=tuple(run.notes), solver=info(),
-                      seconds=round(time.perf_counter() - t0, 3))
+        run.prove("no plan exists", f"preprocessing: {p.infeasible_reason}", confirmed_by="exact arithmetic")
+        return result("infeasible")
     try:
         _lower_bounds(run)
         run.report("bounds")
         if math.isinf(run.bound):
             which = ", ".join(k for k, v in run.bounds.items() if math.isinf(v))
             run.notes.append(f"a lower bound proves that no plan exists ({which})")
-            return Result(instance.name, "infeasible", bounds=run.bounds, notes=tuple(run.notes), solver=info(),
-                          seconds=round(time.perf_counter() - t0, 3))
+            return result("infeasible")
         budget = min(0.5, 0.02 * time_limit)
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
         run.report("incumbent")
@@ -330,53 +447,58 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
         run.report("special")
         if not run.closed() and run.left() > 0.05:
             if _use_decision(p):
-                _decision_stage(run, backend, threads, seed, log)
+                _decision_stage(run)
             else:
-                _main_stage(run, backend, threads, seed, log)
+                _main_stage(run)
     except KeyboardInterrupt:
         run.interrupted = True
         run.notes.append("interrupted: the best checked plan so far is reported")
     if run.interrupted and not any(n.startswith("interrupted") for n in run.notes):
         run.notes.append("interrupted: the best checked plan so far is reported")
-    tiebreak = None
-    seconds = lambda: round(time.perf_counter() - t0, 3)
     if run.errors:
         # the model produced a plan the checker rejects: no claim about optimality can stand
-        return Result(instance.name, "error", bounds=run.bounds, notes=tuple(run.notes + run.errors[:20]),
-                      solver=info(), seconds=seconds())
+        run.notes.extend(run.errors[:20])
+        return result("error")
     if run.best is None:
         if math.isinf(run.bound):
             run.notes.append("the model has no solution: no plan satisfies every rule")
-            return Result(instance.name, "infeasible", bounds=run.bounds, notes=tuple(run.notes), solver=info(),
-                          seconds=seconds())
-        return Result(instance.name, "unknown", bound=run.bound, bounds=run.bounds, notes=tuple(run.notes),
-                      solver=info(), seconds=seconds())
+            return result("infeasible")
+        return result("unknown", bound=run.bound)
     objective = run.best.report.objective
     bound = min(run.bound, objective)
     status = "optimal" if run.closed() else "feasible"
+    tiebreak = None
     if instance.objective.then == "tips":
         if status == "optimal":
             try:
-                tips, proved = _tips_stage(run, backend, threads, seed, log)
+                tips, proved = _tips_stage(run)
             except KeyboardInterrupt:
                 tips, proved = run.best.report.tips, False
         else:
             tips, proved = run.best.report.tips, False
         tiebreak = TieBreak("tips", float(tips), proved)
     if run.errors:
-        return Result(instance.name, "error", bounds=run.bounds, notes=tuple(run.notes + run.errors[:20]),
-                      solver=info(), seconds=seconds())
-    return Result(
-        instance=instance.name,
-        status=status,
-        objective=objective,
-        bound=bound,
-        gap=relative_gap(objective, bound),
-        tiebreak=tiebreak,
-        bounds=run.bounds,
-        plan=run.best.plan,
-        checked=True,
-        solver=info(),
-        notes=tuple(run.notes),
-        seconds=seconds(),
+        run.notes.extend(run.errors[:20])
+        return result("error")
+    return result(status, objective=objective, bound=bound, gap=relative_gap(objective, bound), tiebreak=tiebreak,
+                  plan=run.best.plan, checked=True)
+
+
+def _provenance(instance: Instance, run: _Run) -> Provenance:
+    """Instance hash, tool and solver versions, date, and the proof steps of this run."""
+    from datetime import datetime, timezone
+    from importlib.metadata import PackageNotFoundError, version
+
+    def ver(name: str) -> str:
+        try:
+            return version(name)
+        except PackageNotFoundError:  # pragma: no cover
+            return "not installed"
+
+    return Provenance(
+        instance_sha256=instance_digest(instance),
+        tool_version=f"stackproof {ver('stackproof')}",
+        solvers={"highspy": ver("highspy"), "PuLP": ver("pulp")},
+        date=datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        proof=tuple(run.steps),
     )
