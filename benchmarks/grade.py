@@ -17,11 +17,12 @@ from typing import Callable, Iterable, Optional, Sequence
 
 from instances.checker import check_plan
 from instances.errors import InputError
-from instances.io import read_plan_or_result
+from instances.io import load_json, read_plan_or_result
 from instances.model import Plan
 
 from .results import is_proven
 from .suites import SuiteEntry
+from .text import percent, plural, violation_text
 from .verify import close
 
 GOLD_KINDS = ("proven", "known", "bound")
@@ -97,9 +98,15 @@ def gap_to(objective: float, gold: float) -> Optional[float]:
 PlanSource = Callable[[SuiteEntry], tuple[Optional[Plan], list[str], Optional[float]]]
 
 
+PLAN_SUFFIXES = (".plan.json", ".result.json", ".json")
+
+
 def plans_from_dir(folder: str | Path, entries: Sequence[SuiteEntry]) -> PlanSource:
-    """Plans matched by instance file name: `<name>.json` (or `.plan.json` / `.result.json`),
-    also under `<set>/`, and `<file stem>.json` when that file holds only this instance."""
+    """Plans found by the plan-file naming rule: for an instance named NAME, the first of
+    `NAME.plan.json`, `NAME.result.json`, `NAME.json`, looked for in `DIR/<set>/` and then in `DIR/`
+    (and under the instance file's stem too when no other instance shares it). A file holding an
+    instance document is never taken as a plan, so a folder written by `stackproof generate`
+    (`X.json` beside `X.plan.json`) grades its planted plans."""
     folder = Path(folder)
     if not folder.is_dir():
         raise InputError.one(str(folder), "$", "plan folder not found")
@@ -109,22 +116,35 @@ def plans_from_dir(folder: str | Path, entries: Sequence[SuiteEntry]) -> PlanSou
         names = [entry.name] + ([entry.file.stem] if stems[entry.file.stem] == 1 and entry.file.stem != entry.name else [])
         for base in (folder / entry.set, folder):
             for n in names:
-                for suffix in (".json", ".plan.json", ".result.json"):
-                    if (base / (n + suffix)).is_file():
-                        return base / (n + suffix)
+                for suffix in PLAN_SUFFIXES:
+                    path = base / (n + suffix)
+                    if path.is_file() and not _holds_instance(path):
+                        return path
         return None
 
     def source(entry: SuiteEntry):
         path = find(entry)
         if path is None:
-            return None, [f"no plan file for {entry.name} in {folder}"], None
+            return None, [f"no plan file for {entry.name} in {folder} (looked for {entry.name}.plan.json, "
+                          f"{entry.name}.result.json or a plan named {entry.name}.json)"], None
         try:
             plan, _ = read_plan_or_result(path)
         except InputError as exc:
             return None, [f"unreadable plan: {exc}"], None
+        if plan.instance is not None and entry.instance.name is not None and plan.instance != entry.instance.name:
+            return None, [f"{path} is a plan for another instance: it names \"{plan.instance}\", not \"{entry.instance.name}\""], None
         return plan, [], None
 
     return source
+
+
+def _holds_instance(path: Path) -> bool:
+    """True when the file is an instance document (then it is not a plan); unreadable files are not."""
+    try:
+        doc = load_json(path)
+    except InputError:
+        return False
+    return isinstance(doc, dict) and doc.get("format") == "stackproof/instance"
 
 
 def plans_from_heuristic(spec: str) -> PlanSource:
@@ -137,7 +157,7 @@ def plans_from_heuristic(spec: str) -> PlanSource:
     try:
         fn = load_function(spec)
     except (ImportError, ValueError) as exc:
-        raise InputError.one(None, "--heuristic", f"cannot load {spec!r}: {exc}") from None
+        raise InputError.one("command line", "--heuristic", f"cannot load {spec}: {exc}") from None
 
     def source(entry: SuiteEntry):
         start = time.perf_counter()
@@ -168,7 +188,7 @@ def grade_one(entry: SuiteEntry, plan: Optional[Plan], reasons: list[str], secon
     except Exception as exc:  # a plan too broken to replay (e.g. wrong dimension)
         return Graded(entry.key, entry.name, False, [f"plan cannot be replayed: {type(exc).__name__}: {exc}"], None, gold, kind, None, seconds)
     if not report.feasible:
-        return Graded(entry.key, entry.name, False, [str(v) for v in report.violations], None, gold, kind, None, seconds)
+        return Graded(entry.key, entry.name, False, [violation_text(v) for v in report.violations], None, gold, kind, None, seconds)
     obj = report.objective
     notes = []
     gap = None if gold is None else gap_to(obj, gold)
@@ -210,26 +230,24 @@ def summary(rows: Sequence[Graded]) -> dict:
 
 
 def _reason(violation: str) -> str:
-    """The rule name of a checker violation line (`move 3 (b1): overlap: ...` -> `overlap`)."""
+    """The rule name of a checker violation line (`move 3 (box b1): overlap: ...` -> `overlap`)."""
     parts = violation.split(": ")
     return parts[1] if len(parts) >= 3 and parts[0].startswith(("move", "plan")) else parts[0][:60]
 
 
 def table(rows: Sequence[Graded]) -> str:
-    """A plain-text table and summary for a terminal."""
+    """A plain-text table and summary for a terminal (gaps in percent)."""
     lines = [f"{'instance':<36} {'feasible':>8} {'objective':>10} {'gold':>10} {'kind':>6} {'gap':>8}"]
     for r in rows:
         obj = "-" if r.objective is None else f"{r.objective:g}"
         gold = "-" if r.gold is None else f"{r.gold:g}"
-        gap = "-" if r.gap is None else f"{r.gap:.4f}"
-        lines.append(f"{r.key:<36} {'yes' if r.feasible else 'NO':>8} {obj:>10} {gold:>10} {r.gold_kind or '-':>6} {gap:>8}")
+        lines.append(f"{r.key:<36} {'yes' if r.feasible else 'NO':>8} {obj:>10} {gold:>10} {r.gold_kind or '-':>6} {percent(r.gap):>8}")
         for v in (r.violations[:3] if not r.feasible else []) + r.notes:
             lines.append(f"    {v}")
     s = summary(rows)
-    pct = lambda x: "-" if x is None else f"{100 * x:.1f}%"
-    g = lambda x: "-" if x is None else f"{x:.4f}"
-    lines += ["", f"feasible {s['feasible']}/{s['instances']} ({pct(s['feasible_share'])}), optimal {s['optimal']}/{s['instances']} "
-              f"({pct(s['optimal_share'])}); gap mean {g(s['mean_gap'])}, median {g(s['median_gap'])}, max {g(s['max_gap'])}"]
+    share = lambda x: "-" if x is None else f"{100 * x:.1f}%"
+    lines += ["", f"feasible {s['feasible']}/{s['instances']} ({share(s['feasible_share'])}), optimal {s['optimal']}/{s['instances']} "
+              f"({share(s['optimal_share'])}); gap mean {percent(s['mean_gap'])}, median {percent(s['median_gap'])}, max {percent(s['max_gap'])}"]
     if s["infeasible_reasons"]:
-        lines.append("reasons for infeasible plans: " + ", ".join(f"{k} x{v}" for k, v in s["infeasible_reasons"].items()))
+        lines.append("reasons for infeasible plans: " + ", ".join(f"{k} ({plural(v, 'plan')})" for k, v in s["infeasible_reasons"].items()))
     return "\n".join(lines)

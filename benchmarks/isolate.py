@@ -15,6 +15,7 @@ import tempfile
 import threading
 import time
 from pathlib import Path
+from typing import Optional
 
 REPO_ROOT = Path(__file__).resolve().parents[1]
 
@@ -30,15 +31,15 @@ def solve_isolated(job: dict, wall_limit: float) -> dict:
         job_file, out_file, err_file = (os.path.join(tmp, n) for n in ("job.json", "result.json", "stderr.txt"))
         with open(job_file, "w", encoding="utf-8") as fh:
             json.dump(job, fh)
-        env = dict(os.environ)
-        env["PYTHONPATH"] = os.pathsep.join([str(REPO_ROOT)] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
         with open(err_file, "wb") as err, _LOCK:
+            if _STOPPED.is_set():  # the run was interrupted while this job waited for its turn
+                return {"result": None, "error": "not started: the run was interrupted", "seconds": 0.0, "transient": True}
             proc = subprocess.Popen(
                 [sys.executable, "-m", "benchmarks.worker", job_file, out_file],
                 stdin=subprocess.DEVNULL,
                 stdout=err,
                 stderr=err,
-                env=env,
+                env=worker_env(),
                 cwd=tmp,
                 start_new_session=True,
             )
@@ -63,13 +64,40 @@ def solve_isolated(job: dict, wall_limit: float) -> dict:
         return {"result": None, "error": f"solver process exited with code {code}: {tail[0]}", "seconds": seconds}
 
 
+def worker_env() -> dict:
+    """The environment of a worker process: this one, with the project first on PYTHONPATH."""
+    env = dict(os.environ)
+    env["PYTHONPATH"] = os.pathsep.join([str(REPO_ROOT)] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
+    return env
+
+
+def solver_load_error(spec: str) -> Optional[str]:
+    """Why a worker process could not load the solver `module:function` (None when it can),
+    found in a worker-like process (same path, a scratch working folder) before any run starts."""
+    with tempfile.TemporaryDirectory(prefix="stackproof-check-") as tmp:
+        out = subprocess.run([sys.executable, "-m", "benchmarks.worker", "--check", spec], capture_output=True, text=True,
+                             env=worker_env(), cwd=tmp, stdin=subprocess.DEVNULL, timeout=120)
+    if out.returncode == 0:
+        return None
+    lines = [line for line in (out.stderr or out.stdout).splitlines() if line.strip()]
+    return lines[-1] if lines else f"exit code {out.returncode}"
+
+
 _LIVE: set[subprocess.Popen] = set()  # solve processes started here and still running
 _LOCK = threading.Lock()
+_STOPPED = threading.Event()  # set when a run is interrupted: no new solve starts
+
+
+def allow_solves() -> None:
+    """Let solves start again (at the beginning of a run)."""
+    _STOPPED.clear()
 
 
 def kill_live_solves() -> None:
-    """Kill every solve process this process started (an interrupted run leaves none behind)."""
+    """Kill every solve process this process started and start no new one until `allow_solves`
+    (an interrupted run leaves none behind, and no job waiting for a thread slips through)."""
     with _LOCK:
+        _STOPPED.set()
         procs = list(_LIVE)
     for proc in procs:
         _kill_group(proc)

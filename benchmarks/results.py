@@ -14,6 +14,12 @@ def is_failure(record: dict) -> bool:
     return bool(record.get("contradictions") or record.get("problems"))
 
 
+def has_checked_result(record: dict) -> bool:
+    """The instance produced something the run can vouch for: a plan the checker accepted, or a
+    proof of infeasibility that nothing contradicts."""
+    return not is_failure(record) and (bool(record.get("checked")) or record.get("status") == "infeasible")
+
+
 def is_proven(record: dict) -> bool:
     """Proven optimal: status optimal, a plan the checker accepted, and nothing contradicts it."""
     return record.get("status") == "optimal" and bool(record.get("checked")) and not is_failure(record)

@@ -20,9 +20,11 @@ from typing import Callable, Iterator, Optional, Sequence
 from instances.io import instance_to_dict, plan_to_dict, result_from_dict
 from instances.model import Result
 
-from .isolate import REPO_ROOT, kill_live_solves, solve_isolated
+from .isolate import REPO_ROOT, allow_solves, kill_live_solves, solve_isolated
+from .progress import StatusLine
 from .results import ResultsFile, is_proven
 from .suites import SuiteEntry, instance_hash, shuffled
+from .text import number, percent, plural
 from .verify import verify
 
 DEFAULT_SOLVER = "milp:solve"
@@ -66,6 +68,8 @@ def stackproof_version() -> str:
         text = version("stackproof")
     except Exception:
         text = "unknown"
+    if not (REPO_ROOT / ".git").exists():  # an installed copy, not a checkout
+        return text
     try:
         out = subprocess.run(["git", "-C", str(REPO_ROOT), "rev-parse", "--short", "HEAD"], capture_output=True, text=True, timeout=5)
         if out.returncode == 0 and out.stdout.strip():
@@ -151,39 +155,37 @@ def make_record(entry: SuiteEntry, config: RunConfig, outcome: dict, version: st
 
 
 class Progress:
-    """done / proven / elapsed on stderr: a redrawn bar on a terminal, one line per instance otherwise."""
+    """Bench progress on a terminal: a row per finished instance (status, objective, bound, gap in
+    percent, seconds) under which one line keeps done / proven / elapsed. Silent when disabled or
+    when stderr is not a terminal; contradictions are listed by the command at the end either way."""
 
     def __init__(self, total: int, stream=None, enabled: bool = True):
         self.total, self.done, self.proven = total, 0, 0
-        self.stream = sys.stderr if stream is None else stream
-        self.enabled = enabled
-        self.tty = enabled and hasattr(self.stream, "isatty") and self.stream.isatty()
+        self.line = StatusLine(stream, enabled)
         self.start = time.monotonic()
+        self.line.show(self.head())
+
+    def head(self) -> str:
+        return f"bench: {self.done}/{self.total} done, {self.proven} proven, {time.monotonic() - self.start:.0f} s elapsed"
 
     def update(self, record: dict) -> None:
         self.done += 1
         self.proven += is_proven(record)
-        if not self.enabled:
-            return
-        elapsed = time.monotonic() - self.start
-        head = f"{self.done}/{self.total} done, {self.proven} proven, {elapsed:.0f}s elapsed"
+        self.line.row(record_row(record))
         for c in record["contradictions"]:
-            self._line(f"CONTRADICTION {record['key']}: {c}")
+            self.line.row(f"  CONTRADICTION: {c}")
         for p in record["problems"]:
-            self._line(f"UNCHECKED {record['key']}: {p}")
-        if self.tty:
-            width = 30
-            filled = int(width * self.done / max(1, self.total))
-            self.stream.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {head}")
-            if self.done == self.total:
-                self.stream.write("\n")
-        else:
-            obj = "-" if record["objective"] is None else f"{record['objective']:g}"
-            self.stream.write(f"[{head}] {record['key']}: {record['status']} objective {obj} ({record['seconds']:.1f}s)\n")
-        self.stream.flush()
+            self.line.row(f"  UNCHECKED: {p}")
+        self.line.show(self.head())
 
-    def _line(self, text: str) -> None:
-        self.stream.write(("\r" if self.tty else "") + "!!! " + text + "\n")
+    def close(self) -> None:
+        self.line.close()
+
+
+def record_row(record: dict) -> str:
+    """One finished instance for people: `set/name: optimal  objective 8  bound 8  gap 0.00%  1.2 s`."""
+    return (f"{record['key']}: {record['status']}  objective {number(record.get('objective'))}  "
+            f"bound {number(record.get('bound'))}  gap {percent(record.get('gap'))}  {record['seconds']:.1f} s")
 
 
 # ---------------------------------------------------------------- the run
@@ -191,6 +193,7 @@ class Progress:
 
 def _local(jobs: int) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[int, dict]]]:
     def execute(work: list[tuple[dict, float]]) -> Iterator[tuple[int, dict]]:
+        allow_solves()
         pool = ThreadPoolExecutor(max_workers=max(1, jobs))
         try:
             futures = {pool.submit(solve_isolated, job, wall): k for k, (job, wall) in enumerate(work)}
@@ -233,21 +236,28 @@ def run_bench(
     progress: bool = True,
 ) -> list[dict]:
     """Solve every entry not yet in `results`; return the records of all entries (old and new),
-    in suite order."""
+    in suite order. With `progress`, say on stderr when a resumed run skips finished instances,
+    and show rows and a status line on a terminal."""
     store = ResultsFile(results)
     old = {r.get("run_key"): r for r in store.read()}
     version = stackproof_version()
     prepared = [make_job(e, config) for e in entries]
     keys = [run_key(e.key, instance_hash(e.instance), config) for e, _ in prepared]
     todo = [k for k, key in enumerate(keys) if key not in old]
+    if progress and len(todo) < len(keys):
+        print(f"resuming {store.path}: {len(keys) - len(todo)} of {plural(len(keys), 'instance')} already done "
+              f"with this configuration, skipped; {len(todo)} to run", file=sys.stderr)
     bar = Progress(len(todo), enabled=progress)
     execute = _dask(scheduler) if scheduler else _local(jobs)
     new: dict[int, dict] = {}
-    for k, outcome in execute([(prepared[k][1], config.wall_limit) for k in todo]):
-        entry = prepared[todo[k]][0]
-        record = make_record(entry, config, outcome, version)
-        if not outcome.get("transient"):
-            store.append(record)
-        new[todo[k]] = record
-        bar.update(record)
+    try:
+        for k, outcome in execute([(prepared[k][1], config.wall_limit) for k in todo]):
+            entry = prepared[todo[k]][0]
+            record = make_record(entry, config, outcome, version)
+            if not outcome.get("transient"):
+                store.append(record)
+            new[todo[k]] = record
+            bar.update(record)
+    finally:
+        bar.close()
     return [new[k] if k in new else old[key] for k, key in enumerate(keys)]

@@ -1,5 +1,6 @@
 """One solve in its own process: `python -m benchmarks.worker JOB.json OUT.json`.
 
+`python -m benchmarks.worker --check MODULE:FUNCTION` only says whether the solver loads (exit 0 or 2).
 The job names the instance document, the solver (`module:function`, called as
 ``f(instance, *, time_limit, backend, threads, seed, log=False) -> Result``) and its options.
 The result document is written atomically to OUT.json; a crash leaves no OUT.json and a
@@ -55,6 +56,13 @@ def load_function(spec: str) -> Callable:
 
 
 def main(argv: list[str]) -> int:
+    if argv[:1] == ["--check"]:  # can this process load the solver? (asked before a run starts)
+        try:
+            load_function(argv[1])
+        except (ImportError, ValueError) as exc:
+            print(f"{type(exc).__name__}: {exc}" if isinstance(exc, ImportError) else str(exc), file=sys.stderr)
+            return 2
+        return 0
     _die_with_parent()
     from instances.io import instance_from_dict, result_to_dict, write_json
 

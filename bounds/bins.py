@@ -46,8 +46,9 @@ def area(view: View) -> tuple[float, str]:
         value = float(n) if got >= need * (1 - 1e-12) else math.inf
         if value > best:
             best = value
-            why = (f"volume {need:g} of {len(boxes)} boxes needs {n} containers of {'+'.join(k.id for k in S)}"
-                   if math.isfinite(value) else f"volume {need:g} exceeds all containers of {'+'.join(k.id for k in S)}")
+            measure = "area" if view.instance.dim == 2 else "volume"
+            why = (f"{measure} {need:g} of {len(boxes)} boxes needs {n} containers of {'+'.join(k.id for k in S)}"
+                   if math.isfinite(value) else f"{measure} {need:g} exceeds all containers of {'+'.join(k.id for k in S)}")
     return best, why
 
 

@@ -55,10 +55,20 @@ def area(view: View, objective: str) -> tuple[float, str]:
         for S, boxes in type_subsets(view):
             v = sum(b.volume for b in boxes) / sum(k.count * effective_base(view, k) for k in S)
             if v > best:
-                best, why = v, f"volume {sum(b.volume for b in boxes):g} of {len(boxes)} boxes over the base of {'+'.join(k.id for k in S)}"
+                best, why = v, f"{_measure(view)} {sum(b.volume for b in boxes):g} of {len(boxes)} boxes over the {_base(view)} of {'+'.join(k.id for k in S)}"
         return view.round_height(best), why
     total = sum(b.volume / max(effective_base(view, k) for k in view.types_of(b)) for b in view.instance.boxes)
-    return view.round_height(total), "each box's volume over its largest allowed base, summed"
+    return view.round_height(total), f"each box's {_measure(view)} over its largest allowed {_base(view)}, summed"
+
+
+def _measure(view: View) -> str:
+    """What a box's size multiplies to: area in 2D, volume in 3D (for the reason strings)."""
+    return "area" if view.instance.dim == 2 else "volume"
+
+
+def _base(view: View) -> str:
+    """What a container's floor measures: its width in 2D, its base area in 3D."""
+    return "width" if view.instance.dim == 2 else "base"
 
 
 def tallest(view: View, objective: str) -> tuple[float, str]:

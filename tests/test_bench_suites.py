@@ -1,12 +1,10 @@
-"""Tests of benchmarks.suites (what a run covers) and of the runner's progress line."""
+"""Tests of benchmarks.suites (what a run covers)."""
 from __future__ import annotations
 
-import io
 import json
 
 import pytest
 
-from benchmarks.runner import Progress
 from benchmarks.suites import instance_hash, load_suite, load_suites, select
 from instances.errors import InputError
 from instances.drop import drop_plan
@@ -59,26 +57,6 @@ def test_instance_hash_is_about_content_not_layout():
     a = strip_instance("h", [(1, 1), (2, 1)], 2)
     assert instance_hash(a) == instance_hash(strip_instance("h", [(1, 1), (2, 1)], 2))
     assert instance_hash(a) != instance_hash(strip_instance("h", [(1, 1), (2, 2)], 2))
-
-
-class FakeTerminal(io.StringIO):
-    def isatty(self) -> bool:
-        return True
-
-
-def test_progress_shows_done_proven_and_elapsed():
-    rec = {"key": "s/a", "status": "optimal", "objective": 2.0, "checked": True, "seconds": 0.5, "contradictions": [], "problems": []}
-    bad = dict(rec, key="s/b", contradictions=["lower bound 3 exceeds the known optimum 2"])
-    tty = FakeTerminal()
-    bar = Progress(2, stream=tty)
-    bar.update(rec)
-    bar.update(bad)
-    text = tty.getvalue()
-    assert "\r[" in text and "2/2 done, 1 proven" in text and "elapsed" in text
-    assert "CONTRADICTION s/b: lower bound 3 exceeds" in text
-    plain = io.StringIO()
-    Progress(1, stream=plain).update(rec)
-    assert plain.getvalue().startswith("[1/1 done, 1 proven,") and "s/a: optimal objective 2" in plain.getvalue()
 
 
 def test_a_generated_folder_is_a_suite_through_its_manifest(tmp_path):

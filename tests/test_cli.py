@@ -40,7 +40,11 @@ def test_check_infeasible_lists_violations_and_exits_1(files, tmp_path):
     p.write_text(json.dumps(bad))
     out = run("check", files[0], p)
     assert out.returncode == 1
-    assert "move 2 (crate-b): overlap" in out.stdout
+    # the third move of the plan is move 3: moves are numbered from 1 in text and JSON alike
+    assert "move 3 (box crate-b): overlap" in out.stdout
+    assert "infeasible (1 violation);" in out.stdout
+    doc = json.loads(run("check", files[0], p, "--json").stdout)
+    assert [(v["move"], v["box"], v["rule"]) for v in doc["violations"]] == [(3, "crate-b", "overlap")]
 
 
 @pytest.mark.parametrize("doc_change, where", [

@@ -1,5 +1,7 @@
 """`stackproof bench SUITE...`: solve every instance, verify, record, report; exit 1 on a
-contradiction, an unchecked result or a regression against the baseline."""
+contradiction, an unchecked result, a regression against the baseline, or when no instance produced
+a checked result; 2 on bad input or an output that cannot be written (checked before any solve);
+130 on Ctrl-C (what is in --results stays, and the same command resumes)."""
 from __future__ import annotations
 
 import argparse
@@ -8,14 +10,21 @@ import sys
 from instances.errors import InputError
 
 from ..baseline import regressions
+from ..cli import EXIT_INTERRUPTED
 from ..junit import write_junit
 from ..report import set_summary, write_report
-from ..results import is_failure, read_results
+from instances.io import check_output
+
+from ..results import has_checked_result, is_failure, read_results
 from ..runner import DEFAULT_SOLVER, RunConfig, run_bench
 from ..suites import load_suites, select
+from ..text import percent, plural
 
 NAME = "bench"
 HELP = "Run the solver on benchmark suites, verify every result against known values, write reports."
+DESCRIPTION = (HELP + " Rows on the terminal show gaps in percent; the results file and reports keep FORMATS.md's "
+               "fraction (objective - bound) / objective. Exit 0 when all is well; 1 on a contradiction, an unchecked "
+               "plan, a regression, or when no instance produced a checked result; 2 on bad input; 130 on Ctrl-C.")
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -36,40 +45,71 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--seed", type=int, default=0, help="solver random seed (default 0)")
     parser.add_argument("--solver", default=DEFAULT_SOLVER, metavar="MODULE:FUNCTION",
                         help=f"solve function f(instance, *, time_limit, backend, threads, seed, log) -> Result (default {DEFAULT_SOLVER})")
-    parser.add_argument("--quiet", action="store_true", help="no progress output")
+    parser.add_argument("--quiet", action="store_true", help="no progress output (rows and the status line appear only on a terminal)")
 
 
 def _check_args(args: argparse.Namespace) -> None:
     if args.time_limit <= 0:
-        raise InputError.one(None, "--time-limit", f"must be positive, got {args.time_limit:g}")
+        raise InputError.one("command line", "--time-limit", f"must be positive, got {args.time_limit:g}")
     if args.hard_limit is not None and args.hard_limit <= 0:
-        raise InputError.one(None, "--hard-limit", f"must be positive, got {args.hard_limit:g}")
+        raise InputError.one("command line", "--hard-limit", f"must be positive, got {args.hard_limit:g}")
     if args.jobs < 1:
-        raise InputError.one(None, "--jobs", f"must be at least 1, got {args.jobs}")
+        raise InputError.one("command line", "--jobs", f"must be at least 1, got {args.jobs}")
     if args.threads < 1:
-        raise InputError.one(None, "--threads", f"must be at least 1, got {args.threads}")
+        raise InputError.one("command line", "--threads", f"must be at least 1, got {args.threads}")
     if ":" not in args.solver:
-        raise InputError.one(None, "--solver", f"must be MODULE:FUNCTION, got {args.solver!r}")
+        raise InputError.one("command line", "--solver", f"must be MODULE:FUNCTION, got {args.solver}")
 
 
-def run(args: argparse.Namespace) -> int:
-    _check_args(args)
-    entries = select(load_suites(args.suites), args.filter)
-    if not entries:
-        raise InputError.one(None, "--filter", "no instance matches")
-    if args.solver == DEFAULT_SOLVER:  # fail fast (exit 2) on options the MILP cannot honour
+def _check_outputs(args: argparse.Namespace) -> None:
+    """Every output path is writable before the first solve starts."""
+    if args.results:
+        check_output(args.results, "--results", append=True)
+    if args.junit:
+        check_output(args.junit, "--junit")
+    if args.report:
+        check_output(args.report, "--report", folder=True)
+
+
+def _check_solver(args: argparse.Namespace, entries) -> None:
+    """Fail fast (exit 2) on a solver that cannot be loaded or options the MILP cannot honour."""
+    if args.solver == DEFAULT_SOLVER:
         from milp import validate_options
 
         for e in entries:
             validate_options(e.instance, args.time_limit, args.backend, args.threads, args.seed, None)
+    elif args.scheduler is None:  # on a cluster the workers' environment may differ from this one
+        from ..isolate import solver_load_error
+
+        why = solver_load_error(args.solver)
+        if why is not None:
+            raise InputError.one("command line", "--solver", f"cannot load {args.solver}: {why}")
+
+
+def run(args: argparse.Namespace) -> int:
+    _check_args(args)
+    _check_outputs(args)
+    entries = select(load_suites(args.suites), args.filter)
+    if not entries:
+        raise InputError.one("command line", "--filter", "no instance matches")
+    _check_solver(args, entries)
     baseline = read_results(args.baseline) if args.baseline else None
     config = RunConfig(time_limit=args.time_limit, solver=args.solver, backend=args.backend, threads=args.threads,
                        seed=args.seed, shuffle_seed=args.shuffle_seed, hard_limit=args.hard_limit)
-    records = run_bench(entries, config, results=args.results, jobs=args.jobs, scheduler=args.scheduler, progress=not args.quiet)
+    try:
+        records = run_bench(entries, config, results=args.results, jobs=args.jobs, scheduler=args.scheduler,
+                            progress=not args.quiet)
+    except KeyboardInterrupt:
+        kept = (f"finished instances are in {args.results}; run the same command again to resume"
+                if args.results else "nothing was kept (no --results file)")
+        print(f"stackproof bench: interrupted; {kept}", file=sys.stderr)
+        return EXIT_INTERRUPTED
 
     s = set_summary(records)
-    print(f"{s['instances']} instances: {s['proven']} proven optimal, {s['with_plan']} with a checked plan, "
-          f"{s['errors']} errors, {s['contradictions']} with contradictions, {s['unchecked']} unchecked")
+    gaps = [r["gap"] for r in records if r.get("gap") is not None]
+    print(f"{plural(s['instances'], 'instance')}: {s['proven']} proven optimal, {s['with_plan']} with a checked plan, "
+          f"{plural(s['errors'], 'error')}, {s['contradictions']} with contradictions, {s['unchecked']} unchecked; "
+          f"largest gap {percent(max(gaps) if gaps else None)}")
     failures = [r for r in records if is_failure(r)]
     for r in failures:
         for text in r["contradictions"]:
@@ -91,5 +131,10 @@ def run(args: argparse.Namespace) -> int:
     for reg in regressed:
         print(f"REGRESSION {reg}", file=sys.stderr)
     if regressed:
-        print(f"{len(regressed)} regressions against {args.baseline}")
+        print(f"{plural(len(regressed), 'regression')} against {args.baseline}")
+    if not any(has_checked_result(r) for r in records):
+        errors = [r for r in records if r.get("status") == "error"]
+        first = f"; first error: {errors[0]['key']}: {errors[0]['notes'][0]}" if errors and errors[0].get("notes") else ""
+        print(f"stackproof bench: no instance produced a checked result{first}", file=sys.stderr)
+        return 1
     return 1 if failures or regressed else 0

@@ -6,7 +6,7 @@ from pathlib import Path
 
 from instances.draw import COLOR_BY, FORMATS, draw
 from instances.errors import InputError
-from instances.io import read_instance, read_plan_or_result
+from instances.io import check_output, read_instance, read_plan_or_result
 from instances.validate import validate_plan
 
 NAME = "draw"
@@ -26,9 +26,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     out = Path(args.output)
     if out.suffix.lower().lstrip(".") not in FORMATS:
-        raise InputError(str(out), [("-o", f"extension must be one of {', '.join('.' + f for f in FORMATS)}, got {out.suffix or 'none'!r}")])
-    if out.is_dir():
-        raise InputError(str(out), [("-o", "is a folder, not a file")])
+        raise InputError(str(out), [("-o", f"extension must be one of {', '.join('.' + f for f in FORMATS)}, got {out.suffix or 'none'}")])
+    check_output(out, "-o")
     instance = read_instance(args.instance)
     plan = result = None
     if args.plan is not None:

@@ -15,8 +15,11 @@ from instances.errors import InputError
 from instances.generate import planted_instance, random_instance
 from instances.generate.arrangement import DROP_ORDERS
 from instances.generate.features import source_features
-from instances.io import instance_to_dict, plan_to_dict, write_json
+from instances.io import check_output, instance_to_dict, plan_to_dict, write_json
 from instances.model import ACCESS_RULES, LOADING_RULES, OBJECTIVES, SUPPORT_RULES, TIEBREAKS
+
+from ..progress import StatusLine
+from ..text import plural
 
 NAME = "generate"
 HELP = "Generate random or planted-optimum instances (reproducible from the seed)."
@@ -61,14 +64,22 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         p.add_argument("--upright", type=_share, default=0.0, metavar="SHARE", help="share of 'this side up' boxes (turns about the vertical only)")
         p.add_argument("--flush", type=_share, default=0.5, metavar="P", help="chance a box is dropped against a wall or neighbour (blocks faces)")
         p.add_argument("--source-ratio", type=float, default=1.5, metavar="R", help="source floor = R x target floor (low R: tall stacks)")
-        p.add_argument("--support", choices=SUPPORT_RULES, default="center")
-        p.add_argument("--min-fraction", type=float, help="with --support base-fraction")
-        p.add_argument("--loading", choices=LOADING_RULES, default="from-above")
-        p.add_argument("--access", choices=ACCESS_RULES, default="side-face")
-        p.add_argument("--side-clearance", type=int, default=0)
+        p.add_argument("--support", choices=SUPPORT_RULES, default="center",
+                       help="support rule in the targets (PROBLEM.md section 4; default center)")
+        p.add_argument("--min-fraction", type=float, metavar="F",
+                       help="share of the base that supporters must cover, 0 < F <= 1 (only with --support base-fraction)")
+        p.add_argument("--loading", choices=LOADING_RULES, default="from-above",
+                       help="from-above: each box is lowered straight down into place; any: no such rule (default from-above)")
+        p.add_argument("--access", choices=ACCESS_RULES, default="side-face",
+                       help="side-face: a tip needs a free side face in the source; none: any lifted box may be tipped (default side-face)")
+        p.add_argument("--side-clearance", type=int, default=0, metavar="D",
+                       help="a face within D of a neighbour or a source wall is not free (default 0)")
         p.add_argument("--integer-positions", action="store_true", help="positions must be integers")
-        p.add_argument("--objective", choices=OBJECTIVES, default="height")
-        p.add_argument("--then", choices=TIEBREAKS, default="none", help="tie-breaker")
+        p.add_argument("--objective", choices=OBJECTIVES, default="height",
+                       help="what to minimise: the largest packed height, the sum of heights, or containers used (default height)")
+        p.add_argument("--then", choices=TIEBREAKS, default="none",
+                       help="tie-breaker optimised second: tips (fewest tipped boxes) or none (default none)")
+        p.add_argument("--quiet", action="store_true", help="no progress line on stderr")
     rnd.add_argument("--class", dest="size_class", default="uniform", metavar="C",
                      help="size class: uniform, wide, tall, large, small, mixed, or a published label (bw1-bw6, mv1-mv4; 3D mpv1-mpv8)")
     rnd.add_argument("--shares", type=_shares, metavar="A,B,..", help="proportions of boxes per target type (default equal)")
@@ -89,16 +100,19 @@ def run(args: argparse.Namespace) -> int:
     if args.instances < 1:
         raise InputError.one("command line", "--count", f"must be at least 1, got {args.instances}")
     params = parameters(args)
-    out = Path(args.out)
+    out = check_output(args.out, "-o", folder=True)
     entries = []
+    line = StatusLine(enabled=not args.quiet)
     for k in range(args.instances):
         seed = args.seed + k
+        line.show(f"generate {args.kind}: instance {k + 1} of {args.instances} (seed {seed})")
         try:
             if args.kind == "random":
                 inst, plan = random_instance(args.dim, args.boxes, seed, **params), None
             else:
                 inst, plan = planted_instance(args.dim, args.boxes, seed, **params)
         except ValueError as exc:
+            line.close()
             raise InputError.one("command line", _option_of(str(exc)), str(exc)) from None
         entry: dict[str, Any] = {"file": f"{inst.name}.json", "seed": seed}
         write_json(out / entry["file"], instance_to_dict(inst))
@@ -118,7 +132,8 @@ def run(args: argparse.Namespace) -> int:
         "instances": entries,
     }
     write_json(out / MANIFEST, manifest)
-    print(f"wrote {len(entries)} {args.kind} instance(s) to {out}/ ({MANIFEST} lists them)")
+    line.close()
+    print(f"wrote {plural(len(entries), args.kind + ' instance')} to {out}/ ({MANIFEST} lists them)")
     return 0
 
 

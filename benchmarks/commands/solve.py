@@ -3,19 +3,27 @@
 Exit 0 for optimal / feasible / infeasible, 3 for unknown (no plan within the limit), 2 for bad
 input, 1 for an error (a plan the checker rejected). Without `-o` the result document goes to
 stdout and the summary line to stderr; with `-o` the file is written atomically and the summary
-goes to stdout. Ctrl-C stops the search and still writes the best checked plan.
+goes to stdout. Output paths are checked before the solve starts. Ctrl-C stops the search and
+still writes the best checked plan. On a terminal, one line on stderr shows the incumbent, the
+bound, the gap (in percent) and the elapsed time while the solve runs (not with --quiet or --log).
 """
 from __future__ import annotations
 
 import argparse
-import json
 import sys
+from pathlib import Path
 
 from instances.errors import InputError
-from instances.io import dumps, read_instance, result_to_dict, write_json
+from instances.io import check_output, dumps, read_instance, result_to_dict, write_json
+
+from ..progress import SolveProgress, StatusLine
+from ..text import number, percent
 
 NAME = "solve"
 HELP = "Solve an instance exactly (MILP): a checked plan, a proved bound and the gap."
+DESCRIPTION = (HELP + " The summary line shows the gap in percent; the result document keeps FORMATS.md's "
+               "fraction (objective - bound) / objective. Exit 0 optimal, feasible or infeasible; 3 unknown; "
+               "1 error; 2 bad input or an output that cannot be written.")
 
 EXIT = {"optimal": 0, "feasible": 0, "infeasible": 0, "unknown": 3, "error": 1}
 
@@ -29,21 +37,18 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--threads", type=int, default=1, help="solver threads (default 1)")
     parser.add_argument("--seed", type=int, default=0, help="random seed for solver and incumbent search")
     parser.add_argument("--export-model", metavar="FILE", help="also write the model as FILE.lp or FILE.mps")
-    parser.add_argument("--log", action="store_true", help="stream the backend's log")
-
-
-def _fmt(x) -> str:
-    return "-" if x is None else f"{x:g}"
+    parser.add_argument("--log", action="store_true", help="stream the backend's log (replaces the progress line)")
+    parser.add_argument("--quiet", action="store_true", help="no progress line on stderr")
 
 
 def summary(result) -> str:
     """One line: status, objective, bound, gap, tie-break, seconds."""
-    parts = [f"status={result.status}", f"objective={_fmt(result.objective)}", f"bound={_fmt(result.bound)}",
-             f"gap={'-' if result.gap is None else f'{100 * result.gap:.2f}%'}"]
+    parts = [f"status={result.status}", f"objective={number(result.objective)}", f"bound={number(result.bound)}",
+             f"gap={percent(result.gap)}"]
     if result.tiebreak is not None:
-        parts.append(f"{result.tiebreak.name}={_fmt(result.tiebreak.value)}"
+        parts.append(f"{result.tiebreak.name}={number(result.tiebreak.value)}"
                      f"{'' if result.tiebreak.proved else ' (not proved)'}")
-    parts.append(f"seconds={_fmt(result.seconds)}")
+    parts.append(f"seconds={number(result.seconds)}")
     if result.status in ("infeasible", "error") and result.notes:
         parts.append(f"reason: {result.notes[-1]}")
     return " ".join(parts)
@@ -53,7 +58,7 @@ def run(args: argparse.Namespace) -> int:
     from milp import solve
 
     if args.demo == bool(args.instance):
-        raise InputError("<command line>", [("INSTANCE", "give exactly one of an instance file or --demo")])
+        raise InputError("command line", [("INSTANCE", "give exactly one of an instance file or --demo")])
     if args.demo:
         from instances.demo import demo_instance_path
 
@@ -61,15 +66,26 @@ def run(args: argparse.Namespace) -> int:
     else:
         path = args.instance
     instance = read_instance(path)
-    result = solve(instance, time_limit=args.time_limit, backend=args.backend, threads=args.threads,
-                   seed=args.seed, log=args.log, export_model=args.export_model)
-    doc = result_to_dict(result)
     if args.output:
-        write_json(args.output, doc)
+        check_output(args.output, "-o")
+    if args.export_model:
+        check_output(args.export_model, "--export-model")
+        Path(args.export_model).parent.mkdir(parents=True, exist_ok=True)  # as -o does; the model writer needs it
+    line = StatusLine(enabled=not (args.quiet or args.log))
+    with SolveProgress(line) as progress:
+        result = solve(instance, time_limit=args.time_limit, backend=args.backend, threads=args.threads,
+                       seed=args.seed, log=args.log, export_model=args.export_model,
+                       progress=progress if line.on else None)
+    text = dumps(result_to_dict(result))
+    if args.output:
+        try:
+            write_json(args.output, result_to_dict(result))
+        except OSError as exc:  # the folder changed during the solve: keep the result on stdout
+            sys.stdout.write(text)
+            raise InputError(args.output, [("-o", f"could not be written ({(exc.strerror or str(exc)).lower()}); "
+                                                  "the result document was printed to stdout instead")]) from None
         print(summary(result))
     else:
-        sys.stdout.write(dumps(doc))
-        if not dumps(doc).endswith("\n"):
-            sys.stdout.write("\n")
+        sys.stdout.write(text)
         print(summary(result), file=sys.stderr)
     return EXIT.get(result.status, 1)
