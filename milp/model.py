@@ -36,6 +36,23 @@ class Model:
     exact: bool = True  # False when a restriction was needed (see `restrictions`)
     restrictions: list[str] = field(default_factory=list)
     sep: dict = field(default_factory=dict)
+    symmetry: Optional["Symmetry"] = None
+
+
+@dataclass(frozen=True)
+class Symmetry:
+    """Which symmetry cuts a model carries, so a plan can be moved to the representative they keep.
+
+    twins: groups of interchangeable boxes, ordered bottom-up in index order; mirrored: (box,
+    slot) pairs whose box lies in the low half of the slot along every horizontal axis; flip: the
+    box that lies in the lower half of the packed height, or None; bins_ordered: used containers
+    of a type come first (bins objective).
+    """
+
+    twins: tuple[tuple[int, ...], ...] = ()
+    mirrored: tuple[tuple[int, int], ...] = ()
+    flip: Optional[int] = None
+    bins_ordered: bool = False
 
 
 def _const(value) -> bool:
@@ -78,7 +95,7 @@ class Builder:
         for i in range(p.n):
             row = []
             for ax in range(d):
-                hi = max(self.sizes[k][ax] for k in p.slots_of[i]) - p.min_extent(i, ax)
+                hi = self.reach(i, ax) - p.min_extent(i, ax)
                 row.append(self.var(f"p_{i}_{ax}", lowBound=0, upBound=max(0.0, hi), cat=cat))
             self.pos.append(row)
         self.rank = None
@@ -89,6 +106,9 @@ class Builder:
         self.floor: dict = {}
         self.flip_box: Optional[int] = None
         self.twins: set = set()  # boxes ordered by `identical_boxes` (the mirror must not use them)
+        self.twin_groups: list[tuple[int, ...]] = []
+        self.mirrored: list[tuple[int, int]] = []
+        self.bins_ordered = False
 
     # ---------------------------------------------------------------- variables
     def var(self, name: str, lowBound=None, upBound=None, cat: str = "Continuous") -> pulp.LpVariable:
@@ -421,6 +441,7 @@ class Builder:
         for members in groups.values():
             if len(members) > 1:
                 self.twins.update(members)
+                self.twin_groups.append(tuple(members))
             for i, j in zip(members, members[1:]):
                 self.lp += self.pos[i][z] <= self.pos[j][z], f"sym_{i}_{j}"
 
@@ -447,6 +468,7 @@ class Builder:
                 continue
             k = ks[0]
             taken.add(k)
+            self.mirrored.append((i, k))
             for ax in range(p.dim - 1):
                 self.lp += 2 * self.pos[i][ax] + self.ext(i, ax) <= self.sizes[k][ax], f"mirror_{i}_{ax}"
             if flip and p.slots[k].size[-1] is None and p.instance.objective.minimise == "height":
@@ -495,6 +517,7 @@ class Builder:
             prev = k - 1
             if prev in used and self.p.slots[prev].type_id == self.p.slots[k].type_id:
                 self.lp += u <= used[prev], f"used_order_{k}"
+                self.bins_ordered = True
         total = pulp.lpSum(used.values())
         self.lp += total >= lower, "bins_lower"
         self.lp += total <= upper, "bins_upper"
@@ -533,4 +556,6 @@ def build(p: Problem, *, vcap: float, lower: float, upper: float, goal: str = "m
         b.lp += tips
     else:
         b.lp += pulp.lpSum([])
-    return Model(b.lp, p, b.r, b.a, b.pos, b.rank, main, tips, vcap, not b.restrictions, b.restrictions, b.sep)
+    symmetry = Symmetry(tuple(b.twin_groups), tuple(b.mirrored), b.flip_box, b.bins_ordered)
+    return Model(b.lp, p, b.r, b.a, b.pos, b.rank, main, tips, vcap, not b.restrictions, b.restrictions, b.sep,
+                 symmetry)

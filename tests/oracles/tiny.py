@@ -66,10 +66,12 @@ def tiny_instances(draw, dim: Optional[int] = None, with_source: Optional[bool] 
                    supports: tuple[Support, ...] = SUPPORTS,
                    loadings: tuple[str, ...] = ("from-above", "any"),
                    accesses: tuple[str, ...] = ("side-face", "none"),
-                   objectives: tuple[str, ...] = ("height", "height-sum", "bins")) -> Instance:
+                   objectives: tuple[str, ...] = ("height", "height-sum", "bins"),
+                   type_counts: tuple[int, ...] = (1, 2), distinct_sizes: bool = False) -> Instance:
     """A tiny valid instance: resting source (or none), targets, counts, any rules and objective.
 
-    The keyword tuples narrow the rules drawn (see `binding_instances`).
+    The keyword tuples narrow the rules drawn (see `binding_instances`); `distinct_sizes` makes
+    every container type differ from the others in footprint or height (see `mixed_instances`).
     """
     dim = draw(st.sampled_from([2, 3])) if dim is None else dim
     lim = LIMITS[dim]
@@ -80,7 +82,7 @@ def tiny_instances(draw, dim: Optional[int] = None, with_source: Optional[bool] 
 
     objective = draw(st.sampled_from(objectives))
     then = draw(st.sampled_from(["none", "tips"]))
-    n_types = draw(st.integers(1, 2))
+    n_types = draw(st.sampled_from(type_counts))
     # mostly roomy containers (every box fits some way), sometimes tight ones (often infeasible)
     roomy = draw(st.sampled_from([True, True, True, False]))
     least = max(min(s) for s in sizes) if roomy else lim["width"][0]
@@ -91,6 +93,8 @@ def tiny_instances(draw, dim: Optional[int] = None, with_source: Optional[bool] 
         closed = objective == "bins" or draw(st.booleans())
         height = draw(st.integers(*lim["height"])) if closed else None
         count = draw(st.integers(1, 2))
+        if distinct_sizes and any(c.size == (*foot, height) for c in containers):
+            foot = (foot[0] + 1, *foot[1:])  # one unit wider than the type it would repeat
         containers.append(ContainerType(f"c{t}", (*foot, height), count))
 
     source = None
@@ -151,3 +155,9 @@ def binding_instances(dim: Optional[int] = None) -> st.SearchStrategy[Instance]:
         supports=(Support("center"), Support("corners"), Support("base-fraction", 1.0), Support("base-fraction", 0.5)),
         loadings=("from-above",), accesses=("side-face",), objectives=("height", "height-sum"),
     )
+
+
+def mixed_instances(dim: Optional[int] = None) -> st.SearchStrategy[Instance]:
+    """Tiny instances with two container types of different sizes, boxes free to go to either or
+    bound to one: where a big-M taken over one container type would cut off plans in the other."""
+    return tiny_instances(dim=dim, type_counts=(2,), distinct_sizes=True)
