@@ -13,7 +13,9 @@ integers, and one container: a type of count 1 and the boxes that can only go th
 binary s[i,o,t] = box i in orientation o starts at level t; minimise H with
 H >= t + h_io for the chosen start. HiGHS (via scipy.optimize.milp) is stopped at a time limit
 and its proved dual bound, rounded up, is the value: valid whether or not it finished (on a
-slow machine a hard instance may get a weaker value; tiny ones always finish).
+slow machine a hard instance may get a weaker value; tiny ones always finish). The model is
+solved twice, with presolve on and off, and the weaker bound is kept (a solver's proof counts
+only when an independent second solve confirms it).
 
 Example: three 1x2 boxes in a strip of width 2. The bar LP and the area bound say 3, but
 three levels full with two boxes each would need two boxes starting at level 0 and two
@@ -169,8 +171,25 @@ def _one_container(view: View, ctype: ContainerType, boxes: list[Box], lower: fl
 
 
 def _solve(A, cost, var_lb, var_ub, row_lb, row_ub, continuous: int, time_limit: float) -> tuple[str, Optional[float]]:
+    """(status, proved dual bound) on which HiGHS with presolve on AND with presolve off agree.
+
+    A solver's bound counts only when an independent second solve confirms it: the weaker of
+    the two dual bounds is kept, and none when either run ends without one.
+    """
+    first = _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous, time_limit, presolve=True)
+    second = _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous, time_limit, presolve=False)
+    if first[1] is None or second[1] is None:
+        return "limit", None
+    status = "optimal" if first[0] == second[0] == "optimal" else "limit"
+    return status, min(first[1], second[1])
+
+
+def _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous: int, time_limit: float,
+                presolve: bool) -> tuple[str, Optional[float]]:
     """Run HiGHS quietly on the MILP; return (status, proved dual bound)."""
     h = _quiet_highs()
+    if not presolve:
+        h.setOptionValue("presolve", "off")
     h.setOptionValue("time_limit", float(time_limit))
     h.setOptionValue("mip_max_nodes", MAX_NODES)
     h.setOptionValue("threads", 1)
@@ -186,8 +205,8 @@ def _solve(A, cost, var_lb, var_ub, row_lb, row_ub, continuous: int, time_limit:
     h.passModel(lp)
     h.run()
     status = h.getModelStatus()
-    if status == highspy.HighsModelStatus.kInfeasible:
-        return "infeasible", None
+    if status in (highspy.HighsModelStatus.kInfeasible, highspy.HighsModelStatus.kUnboundedOrInfeasible):
+        return "infeasible", None  # impossible (the greedy packing fits), so no bound is taken from it
     dual = h.getInfo().mip_dual_bound
     if status == highspy.HighsModelStatus.kOptimal:
         return "optimal", float(h.getInfo().objective_function_value if dual is None else dual)
