@@ -3,12 +3,16 @@ from __future__ import annotations
 
 import copy
 import json
+import os
+import stat
+import tempfile
+from pathlib import Path
 
 import pytest
 
 from instances.errors import InputError
 from instances.io import (
-    instance_from_dict, instance_to_dict, plan_from_dict, plan_to_dict, read_instance,
+    check_output, instance_from_dict, instance_to_dict, plan_from_dict, plan_to_dict, read_instance,
     read_plan_or_result, result_from_dict, result_to_dict, write_json,
 )
 from instances.model import Result, SolverInfo, TieBreak
@@ -121,3 +125,78 @@ def test_an_infinite_bound_is_written_as_null_and_left_out_of_bounds(tmp_path):
     doc = json.loads((tmp_path / "r.json").read_text())
     assert doc["bound"] is None and doc["bounds"] == {"area": 2}
     assert result_from_dict(doc).status == "infeasible"
+
+
+# ---------------------------------------------------------------- permissions and output checks
+
+
+@pytest.fixture
+def umask_027():
+    old = os.umask(0o027)
+    try:
+        yield
+    finally:
+        os.umask(old)
+
+
+def test_written_files_follow_the_umask_and_replaced_files_keep_their_mode(tmp_path, umask_027):
+    from benchmarks.results import ResultsFile
+
+    new = tmp_path / "sub" / "new.json"
+    write_json(new, {"a": 1})
+    assert stat.S_IMODE(new.stat().st_mode) == 0o640  # 0666 minus the umask, as open(path, "w") gives
+    ResultsFile(tmp_path / "r.jsonl").append({"a": 1})
+    assert stat.S_IMODE((tmp_path / "r.jsonl").stat().st_mode) == 0o640  # one rule for JSON lines too
+    new.chmod(0o604)
+    write_json(new, {"a": 2})
+    assert stat.S_IMODE(new.stat().st_mode) == 0o604 and json.loads(new.read_text()) == {"a": 2}
+
+
+def readonly_place(tmp_path: Path) -> Path:
+    """A folder in which nobody can create files: a chmod 0555 folder, or /proc when running as root."""
+    ro = tmp_path / "ro"
+    ro.mkdir()
+    ro.chmod(0o555)
+    try:
+        fd, probe = tempfile.mkstemp(dir=ro)
+    except OSError:
+        return ro
+    os.close(fd)
+    os.unlink(probe)  # root ignores the mode bits
+    if Path("/proc/self").is_dir():
+        return Path("/proc")
+    pytest.skip("no read-only place to test with")
+
+
+def output_error(path, option, **kw) -> str:
+    with pytest.raises(InputError) as info:
+        check_output(path, option, **kw)
+    (where, message), = info.value.problems
+    assert where == option and info.value.file == str(path)
+    return message
+
+
+def test_check_output_names_option_and_path_and_creates_nothing(tmp_path):
+    ro = readonly_place(tmp_path)
+    (tmp_path / "adir").mkdir()
+    (tmp_path / "afile").write_text("x")
+    before = sorted(p.name for p in tmp_path.rglob("*"))
+    assert "is a folder" in output_error(tmp_path / "adir", "-o")
+    assert "is a file, not a folder" in output_error(tmp_path / "afile", "--report", folder=True)
+    assert "is a file" in output_error(tmp_path / "afile" / "x.json", "-o")
+    assert "cannot be created" in output_error(ro / "missing" / "deeper" / "r.json", "-o")
+    assert "cannot write in folder" in output_error(ro / "r.json", "--junit")
+    assert "cannot be created" in output_error(ro / "missing", "--report", folder=True)
+    assert sorted(p.name for p in tmp_path.rglob("*")) == before  # the probe left nothing behind
+    assert check_output(tmp_path / "new" / "deeper" / "r.json", "-o") == tmp_path / "new" / "deeper" / "r.json"
+    assert check_output(tmp_path / "adir", "--report", folder=True) == tmp_path / "adir"
+    assert not (tmp_path / "new").exists()  # a good path is only checked, not created
+
+
+def test_check_output_for_appending_needs_a_writable_file(tmp_path):
+    store = tmp_path / "r.jsonl"
+    store.write_text('{"a": 1}\n')
+    assert check_output(store, "--results", append=True) == store
+    assert store.read_text() == '{"a": 1}\n'  # opening for append changed nothing
+    if Path("/proc/version").is_file():
+        assert "cannot be appended to" in output_error(Path("/proc/version"), "--results", append=True)
