@@ -11,8 +11,11 @@ from dataclasses import dataclass
 from functools import cached_property
 from typing import Optional
 
-from instances.model import FACES_OF_GRIP, Box, ContainerType, Instance, grip_needed
-from instances.precedence import precedence_graph
+import networkx as nx
+
+from instances.model import Box, ContainerType, Instance
+from instances.precedence import lift_graph, precedence_graph
+from instances.usable import fits, usable_orientations, walled_faces
 
 # Slack used wherever a packing might use the tolerance: overlaps shorter than `tol` do not count,
 # so two boxes may share up to `tol` along an axis, and a box may stick out by up to `tol`.
@@ -40,17 +43,11 @@ class View:
         self.slack = SLACK_FACTOR * self.tol
 
     @cached_property
-    def grips_blocked(self) -> dict[str, frozenset[str]]:
-        """Per box, the grips (`left-right`, `front-back`) it can never use: both faces against a source wall."""
+    def walls(self) -> dict[str, frozenset[str]]:
+        """Per box, its faces against a source wall (`instances.usable`, shared with the model)."""
         inst = self.instance
-        if inst.source is None or inst.rules.access == "none":
-            return {b.id: frozenset() for b in inst.boxes}
-        graph = self.graph
-        out = {}
-        for b in inst.boxes:
-            walls = graph.nodes[b.id]["wall_blocked"]
-            out[b.id] = frozenset(g for g, faces in FACES_OF_GRIP.items() if all(f in walls for f in faces))
-        return out
+        needed = inst.source is not None and inst.rules.access != "none"
+        return walled_faces(inst, self.graph if needed else None)
 
     @cached_property
     def graph(self):
@@ -59,15 +56,40 @@ class View:
 
     def orientations(self, box: Box) -> tuple[str, ...]:
         """The orientations `box` can ever be packed in: allowed, and a tip's grip not walled in on both faces."""
-        blocked = self.grips_blocked[box.id]
-        return tuple(o for o in box.orientations if grip_needed(o) not in blocked)
+        return usable_orientations(box, self.walls[box.id])
 
     def fits(self, ext: tuple[float, ...], ctype: ContainerType) -> bool:
         """True when extents `ext` fit inside a container of type `ctype` (its height too, if closed)."""
-        for e, s in zip(ext, ctype.size):
-            if s is not None and e > s + self.slack:
-                return False
-        return True
+        return fits(ext, ctype.size, self.slack)
+
+    @cached_property
+    def lift_before(self) -> dict[str, set[str]]:
+        """Per box, every box in its transitive lift column (they must leave the source before it)."""
+        inst = self.instance
+        if inst.source is None:
+            return {b.id: set() for b in inst.boxes}
+        lifts = lift_graph(self.graph)
+        return {b.id: nx.ancestors(lifts, b.id) for b in inst.boxes}
+
+    def must_lie_below(self, ctype: ContainerType, boxes: list[Box]) -> nx.DiGraph:
+        """Edges j -> i (transitively closed) where box j surely lies under box i in `ctype`.
+
+        Valid for boxes that can only go to the one container of type `ctype`, under loading
+        `from-above` with a source: j leaves the source before i (lift column), the two can
+        never stand side by side, so their footprints overlap and j, packed first, lies below
+        i's bottom (proof in `bounds.order`). Empty for loading `any` or without a source.
+        """
+        below = nx.DiGraph()
+        below.add_nodes_from(b.id for b in boxes)
+        inst = self.instance
+        if inst.source is None or inst.rules.loading != "from-above":
+            return below
+        mine = {b.id: b for b in boxes}
+        for b in boxes:
+            for j in self.lift_before[b.id]:
+                if j in mine and not self.can_stand_beside(mine[j], b, ctype):
+                    below.add_edge(j, b.id)
+        return nx.transitive_closure_dag(below)
 
     def extents(self, box: Box, ctype: ContainerType) -> list[tuple[float, ...]]:
         """Distinct extents of `box` over its usable orientations that fit in `ctype` (empty: it never fits)."""

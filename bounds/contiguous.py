@@ -32,7 +32,6 @@ import highspy
 from scipy.sparse import coo_matrix
 
 from instances.model import Box, ContainerType
-from instances.precedence import lift_graph
 
 from .common import View
 
@@ -60,18 +59,9 @@ def contiguous_bound(view: View, lower: float = 0.0, time_limit: float = TIME_LI
 
 
 def _below_pairs(view: View, ctype: ContainerType, boxes: list[Box]) -> list[tuple[int, int]]:
-    """Pairs (j, i) of indices into `boxes` with j surely below i (see bounds.order)."""
-    inst = view.instance
-    if inst.source is None or inst.rules.loading != "from-above":
-        return []
-    lifts = lift_graph(view.graph)
+    """Pairs (j, i) of indices into `boxes` with j surely below i (`View.must_lie_below`)."""
     index = {b.id: k for k, b in enumerate(boxes)}
-    pairs = []
-    for b in boxes:
-        for j in nx.ancestors(lifts, b.id):
-            if j in index and not view.can_stand_beside(boxes[index[j]], b, ctype):
-                pairs.append((index[j], index[b.id]))
-    return pairs
+    return [(index[j], index[i]) for j, i in view.must_lie_below(ctype, boxes).edges()]
 
 
 def _greedy_levels(options: list[list[tuple[int, int]]], W: int, pairs: list[tuple[int, int]], horizon: int) -> int:

@@ -30,7 +30,6 @@ from typing import Optional
 import networkx as nx
 
 from instances.model import ContainerType
-from instances.precedence import lift_graph
 
 from .common import View
 from .geometric import effective_base
@@ -52,23 +51,15 @@ def order_per_container(view: View) -> Optional[dict[str, tuple[float, str]]]:
     inst = view.instance
     if inst.source is None or inst.rules.loading != "from-above":
         return None
-    lifts = lift_graph(view.graph)
-    before = {b.id: nx.ancestors(lifts, b.id) for b in inst.boxes}
-    return {k.id: _one_container(view, k, before) for k in inst.containers if k.count == 1}
+    return {k.id: _one_container(view, k) for k in inst.containers if k.count == 1}
 
 
-def _one_container(view: View, ctype: ContainerType, before: dict[str, set[str]]) -> tuple[float, str]:
+def _one_container(view: View, ctype: ContainerType) -> tuple[float, str]:
     boxes = [b for b in view.instance.boxes if view.single_container(b) is ctype]
     if not boxes:
         return 0.0, ""
     mine = {b.id: b for b in boxes}
-    below = nx.DiGraph()
-    below.add_nodes_from(mine)
-    for b in boxes:
-        for j in before[b.id]:
-            if j in mine and not view.can_stand_beside(mine[j], b, ctype):
-                below.add_edge(j, b.id)
-    below = nx.transitive_closure_dag(below)
+    below = view.must_lie_below(ctype, boxes)
     base = effective_base(view, ctype)
     h = {i: view.min_height(b, ctype) for i, b in mine.items()}
     vol = {i: b.volume for i, b in mine.items()}

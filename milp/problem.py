@@ -15,6 +15,7 @@ from typing import Optional
 import networkx as nx
 
 from instances.model import FACES_OF_GRIP, Instance, grip_needed, is_upright
+from instances.usable import fits, usable_orientations, walled_faces
 
 
 @dataclass(frozen=True)
@@ -82,10 +83,6 @@ def _is_int(v: float) -> bool:
     return float(v).is_integer()
 
 
-def _fits(ext: tuple, size: tuple, tol: float) -> bool:
-    return all(s is None or e <= s + tol for e, s in zip(ext, size))
-
-
 def _precedence(instance: Instance, n: int, index: dict[str, int], graph: Optional[nx.DiGraph]):
     """Lift closure, face contacts and wall blocks from `instances.precedence` (none without a source)."""
     touching: list[dict[str, frozenset]] = [dict() for _ in range(n)]
@@ -109,9 +106,9 @@ def _precedence(instance: Instance, n: int, index: dict[str, int], graph: Option
             faces[i].setdefault(kind, set()).add(j)
     for j, i in nx.transitive_closure_dag(lift).edges():
         before.add((j, i))
-    for node, data in graph.nodes(data=True):
-        if instance.rules.access != "none":
-            blocked[index[node]] = frozenset(data.get("wall_blocked", frozenset()))
+    if instance.rules.access != "none":
+        for box_id, walls in walled_faces(instance, graph).items():
+            blocked[index[box_id]] = walls
     touching = [{f: frozenset(s) for f, s in d.items()} for d in faces]
     return before, touching, blocked
 
@@ -139,19 +136,19 @@ def prepare(instance: Instance, graph: Optional[nx.DiGraph] = None) -> Problem:
     for i, box in enumerate(instance.boxes):
         types = instance.allowed_types(box)
         allowed_slots = [k for t in types for k in slots_of_type[t.id]]
+        usable = usable_orientations(box, blocked[i])
         fitting = {}
         walls_only = []
         for o in box.orientations:
             e = box.extents(o)
-            if not any(_fits(e, t.size, tol) for t in types):
+            if not any(fits(e, t.size, tol) for t in types):
                 continue
-            grip = grip_needed(o)
-            if grip is not None and all(f in blocked[i] for f in FACES_OF_GRIP[grip]):
-                walls_only.append((o, grip))
+            if o not in usable:
+                walls_only.append((o, grip_needed(o)))
                 continue
             fitting[o] = e
         # keep only slots in which at least one remaining orientation fits
-        allowed_slots = [k for k in allowed_slots if any(_fits(e, slots[k].size, tol) for e in fitting.values())]
+        allowed_slots = [k for k in allowed_slots if any(fits(e, slots[k].size, tol) for e in fitting.values())]
         if not fitting and reason is None:
             if walls_only:
                 o, grip = walls_only[0]
