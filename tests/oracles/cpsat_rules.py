@@ -408,6 +408,24 @@ class _Model:
         self.support()
         self.objective()
 
+    def fix(self, plan: Plan) -> None:
+        """Pin the model to `plan` (a checker-accepted plan must then be a solution of it)."""
+        idx = {b.id: k for k, b in enumerate(self.inst.boxes)}
+        slot = {(sl.type_id, sl.index): s for s, sl in enumerate(self.slots)}
+        for rank, mv in enumerate(plan.moves):
+            i = idx[mv.box]
+            ext = self.inst.boxes[i].extents(mv.orientation)
+            grip = grip_needed(mv.orientation)
+            # a dominated tip is represented by the upright option with the same extents
+            k = next(k for k, o in enumerate(self.opts[i])
+                     if o.ext == tuple(int(e) for e in ext) and o.grip in (grip, None))
+            self.m.add(self.pick[i][k] == 1)
+            s = slot[tuple(mv.container)]
+            self.m.add(self.into[i][s] == 1) if s in self.into[i] else self.m.add_bool_or([])
+            self.m.add(self.seq[i] == rank)
+            for a in range(self.dim):
+                self.m.add(self.pos[i][a] == int(round(mv.at[a])))
+
     def plan(self, solver: cp_model.CpSolver) -> Plan:
         moves = []
         for i, b in enumerate(self.inst.boxes):
@@ -421,11 +439,13 @@ class _Model:
 
 
 def solve_cpsat_rules(instance: Instance, *, time_limit: float = 30.0, workers: int = 1,
-                      check: bool = True) -> CpRules:
+                      check: bool = True, fixed: Optional[Plan] = None) -> CpRules:
     """The optimum of an integer instance under every rule of PROBLEM.md, by CP-SAT.
 
     Raises NotExact outside the exact cases (see `check_exact`). With `check`, the plan must pass
     `instances.checker.check_plan` with the same objective and tips (an AssertionError if not).
+    `fixed` pins the model to a given plan: the test that the model admits every plan the checker
+    accepts (its answer must then be that plan's objective).
 
     Example:
     >>> solve_cpsat_rules(instance, time_limit=10).objective  # doctest: +SKIP
@@ -437,6 +457,8 @@ def solve_cpsat_rules(instance: Instance, *, time_limit: float = 30.0, workers: 
     if model.infeasible:
         return CpRules("infeasible", None, None, None, None, 0.0)
     model.build()
+    if fixed is not None:
+        model.fix(fixed)
     solver = cp_model.CpSolver()
     solver.parameters.max_time_in_seconds = time_limit
     solver.parameters.num_workers = workers
