@@ -125,7 +125,7 @@ def test_tips_report_the_face_pair_and_free_faces(tmp_path):
     d = dom_at(page, 2)
     text = d.text["move"]
     assert "left-right" in text and "free then: right" in text and "left: wall" in text
-    assert "van-north #0 = 5" in text  # running height after move 2 (FORMATS.md worked example)
+    assert "van-north[0] = 5" in text  # running height after move 2 (FORMATS.md worked example)
 
 
 @needs_browser

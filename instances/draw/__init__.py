@@ -25,31 +25,33 @@ PathLike = Union[str, os.PathLike]
 __all__ = ["COLOR_BY", "FORMATS", "draw", "write_page", "render", "scene", "replay"]
 
 
-def scene(instance: Instance, plan: Optional[Plan] = None, color_by: str = "destination") -> Scene:
-    """The picture of `instance` (and `plan`) as drawing primitives: elevation in 2D, isometric in 3D."""
-    return scene_of(replay(instance, plan), color_by)
+def scene(instance: Instance, plan: Optional[Plan] = None, color_by: str = "destination",
+          result: Optional[Result] = None) -> Scene:
+    """The picture of `instance` (and `plan`) as drawing primitives: elevation in 2D, isometric in 3D;
+    `result` adds the solver's status, bound and gap to the title."""
+    return scene_of(replay(instance, plan), color_by, result)
 
 
-def scene_of(rp: Replay, color_by: str = "destination") -> Scene:
+def scene_of(rp: Replay, color_by: str = "destination", result: Optional[Result] = None) -> Scene:
     check_color_by(color_by)
     if rp.instance.dim == 2:
         from .elevation import scene as build
     else:
         from .iso3d import scene as build
-    return build(rp, color_by)
+    return build(rp, color_by, result)
 
 
 def render(instance: Instance, plan: Optional[Plan] = None, fmt: str = "svg", color_by: str = "destination",
            result: Optional[Result] = None) -> bytes:
-    """The picture or page as bytes in format `fmt` ("svg", "png" or "html"); `result` only adds
-    the solver's claims to the page."""
+    """The picture or page as bytes in format `fmt` ("svg", "png" or "html"); `result` adds the
+    solver's claims (status, bound, gap) to the title and the page."""
     if fmt not in FORMATS:
         raise ValueError(f"format must be one of {FORMATS}, not {fmt!r}")
     if fmt == "html":
         from .page import page_html
 
         return page_html(instance, plan, color_by, result).encode("utf-8")
-    s = scene(instance, plan, color_by)
+    s = scene(instance, plan, color_by, result)
     if fmt == "svg":
         from .svg import to_svg
 

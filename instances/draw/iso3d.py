@@ -14,10 +14,12 @@ import networkx as nx
 
 from ..precedence import lift_graph
 from . import palette
-from .timeline import Replay, Step
-from .shapes import Group, Item, Line, Poly, Scene, Text, fit_label
-from .views import (HEADER, Colours, box_attrs, box_title, choose_scale, colours, container_size, edge_group, flow,
-                    height_mark_attrs, legend, num, panel_name, panel_width, side_arrow, source_size)
+from ..model import Result
+from .timeline import Replay
+from .shapes import LINE, SMALLEST, Group, Item, Line, Poly, Scene, Text, text_width
+from .views import (GAP, HEADER, MAX_ROW, TITLE, Colours, Content, Labels, Notes, Panel, base_panels, box_attrs,
+                    box_title, colours, edge_group, flow, heading, height_mark_attrs, layout, legend, lift_arrows,
+                    move_table, num, panel_width, side_arrows, smallest_side, title_lines)
 
 VIEW = (1.0, -1.0, 1.0)  # towards the viewer
 R2, R6 = math.sqrt(2.0), math.sqrt(6.0)
@@ -90,16 +92,16 @@ def depth_order(boxes: Sequence[tuple[Vec3, Vec3]], tol: float = 1e-9) -> list[i
 
 
 class Frame:
-    """Maps world points of one panel to pixels: isometric projection, scale, offset."""
+    """Maps world points of one panel (heights `lo`..`hi` shown) to pixels: isometric projection, scale, offset."""
 
-    def __init__(self, x: float, y: float, scale: float, size: Vec3):
+    def __init__(self, x: float, y: float, scale: float, size: Vec3, lo: float = 0.0):
         xs = [project(c)[0] for c in _corners((0, 0, 0), size)]
         ys = [project(c)[1] for c in _corners((0, 0, 0), size)]
         self.x0, self.ytop, self.s = x - min(xs) * scale, y + HEADER + max(ys) * scale, scale
-        self.left, self.top = x, y
+        self.left, self.top, self.lo = x, y, lo
 
     def px(self, p: Vec3) -> tuple[float, float]:
-        u, v = project(p)
+        u, v = project((p[0], p[1], p[2] - self.lo))
         return self.x0 + u * self.s, self.ytop - v * self.s
 
 
@@ -113,101 +115,136 @@ def _corners(lo: Vec3, hi: Vec3) -> list[tuple[float, float, float]]:
     return [(x, y, z) for x in (lo[0], hi[0]) for y in (lo[1], hi[1]) for z in (lo[2], hi[2])]
 
 
-def scene(rp: Replay, color_by: str = "destination") -> Scene:
-    """The whole 3D picture of `rp`: source (or the boxes laid out) and the target containers."""
+def scene(rp: Replay, color_by: str = "destination", result: Optional[Result] = None) -> Scene:
+    """The whole 3D picture of `rp`: source (or the boxes laid out), the target containers, and a
+    table of the moves (the order of boxes hidden behind others reads there)."""
     inst = rp.instance
     col = colours(rp, color_by)
-    panels: list[tuple[str, object, tuple[float, ...], bool, list]] = []  # kind, key, size, open, contents
-    if inst.source is not None:
-        size, open_top = source_size(inst)
-        contents = [(b.id, b.at, b.size, rp.step_for(b.id), "source") for b in inst.boxes]
-        panels.append(("source", None, size, open_top, contents))
-    elif not rp.steps:
-        contents, size = _shelf(rp)
-        panels.append(("given", None, size, True, contents))
-    if rp.steps:
-        for key in rp.keys:
-            size, open_top = container_size(inst, rp, key)
-            contents = [(s.move.box, s.move.at, s.extents, s, "target") for s in rp.steps
-                        if s.key == key and s.extents is not None]
-            panels.append(("target", key, size, open_top, contents))
-    else:
-        for c in inst.containers:
-            size, open_top = container_size(inst, rp, (c.id, 0))
-            panels.append(("type", (c.id, c.count), size, open_top, []))
-    extents = [panel_extent(p[2]) for p in panels]
-    scale = choose_scale([e[0] for e in extents], [e[1] for e in extents])
-    sizes = [(panel_width(panel_name(p[0], p[1], p[3]), e[0] * scale), e[1] * scale + HEADER) for p, e in zip(panels, extents)]
+    scale, panels = layout(base_panels(rp, _shelf), panel_extent, smallest_side(rp))
+    sizes = [(panel_width(p.name, panel_extent(p.shown)[0] * scale), panel_extent(p.shown)[1] * scale + HEADER) for p in panels]
     corners, width, height = flow(sizes)
     items: list[Item] = []
     overlay: list[Item] = []
-    for (x, y), (kind, key, size, open_top, contents) in zip(corners, panels):
-        frame = Frame(x, y, scale, size)
-        back, front = _outline(frame, kind, key, size, open_top)
+    labels = Labels()
+    notes = Notes(moves=bool(rp.steps), cut=any(p.part for p in panels), ghosts=any(p.ghosts for p in panels))
+    frames: list[Frame] = []
+    where: dict[str, int] = {}
+    for n, ((x, y), p) in enumerate(zip(corners, panels)):
+        frame = Frame(x, y, scale, p.shown, p.lo)
+        frames.append(frame)
+        back, front = _outline(frame, p)
         items.append(back)
-        boxes = [(at, tuple(a + e for a, e in zip(at, ext))) for _, at, ext, _, _ in contents]
-        for n in depth_order(boxes, inst.rules.tolerance):
-            box_id, at, ext, step, side = contents[n]
-            items.extend(_box(rp, col, frame, box_id, boxes[n][0], boxes[n][1], side, step))
+        drawn = [(c, False) for c in p.contents] + [(g, True) for g in p.ghosts]
+        boxes = [(c.at, tuple(a + e for a, e in zip(c.at, c.ext))) for c, _ in drawn]
+        order = depth_order(boxes, inst.rules.tolerance)
+        hulls = [silhouette(*boxes[k]) for k in order]
+        for rank, k in enumerate(order):
+            c, ghost = drawn[k]
+            if ghost:
+                items.append(_ghost(frame, *boxes[k], c.box))
+                continue
+            nearer = [_to_px(frame, h) for h in hulls[rank + 1:]]
+            body, label = _box(rp, col, frame, c, boxes[k][0], boxes[k][1], nearer)
+            items += [body, labels.add(label)]
+            if c.side == "source":
+                where[c.box] = n
+            notes.tips = notes.tips or (c.step is not None and c.step.tipped)
         items.append(front)
-        if kind == "target":
-            items.append(_height_mark(rp, frame, key, size))
-        if kind == "source":
-            overlay.extend(_edges(rp, frame))
-    keys, key_h = legend(col, rp, 20.0, height + 14, max(width - 40, 600.0), edges=inst.source is not None)
-    return Scene(max(width, 640.0), height + 14 + key_h + 16, items + overlay + keys, inst.name or "instance")
+        if p.kind == "target":
+            items.append(_height_mark(rp, frame, p))
+    if inst.source is not None:
+        overlay.extend(_edges(rp, frames, where, labels))
+        notes.edges = True
+    notes.labels, notes.unlabelled = len(labels.groups), labels.unlabelled()
+    table: list[Item] = []
+    if rp.steps:
+        tx, ty = (width + GAP, 20.0 + TITLE) if width + GAP + 420 <= MAX_ROW + 200 else (20.0, height + GAP)
+        table, tw, th = move_table(rp, tx, ty, max(height - ty, 600.0), max(width, MAX_ROW) - tx)
+        width, height = max(width, tx + tw + 20), max(height, ty + th)
+        notes.extra.append("The move table lists every move (boxes hidden behind others included); "
+                           "at = lowest corner (x, y, z) in the container.")
+    keys, key_h = legend(col, rp, 20.0, height + 14, max(width - 40, 600.0), notes)
+    return Scene(max(width, 640.0), height + 14 + key_h + 16, heading(rp, result) + items + overlay + table + keys,
+                 title_lines(rp, result)[0])
 
 
-def _outline(frame: Frame, kind: str, key, size: Vec3, open_top: bool) -> tuple[Group, Group]:
+def _to_px(frame: Frame, hull) -> list[tuple[float, float]]:
+    """A silhouette at scale 1 (from `silhouette`) in the frame's pixels."""
+    _, v0 = project((0, 0, frame.lo))
+    return [(frame.x0 + u * frame.s, frame.ytop - (v - v0) * frame.s) for u, v in hull]
+
+
+def _outline(frame: Frame, p: Panel) -> tuple[Group, Group]:
     """The container drawn behind the boxes (floor, back edges) and in front of them (front edges)."""
-    X, Y, Z = size
+    X, Y, _ = p.size
+    lo, Z = p.lo, p.top
     P = frame.px
-    floor = Poly([P((0, 0, 0)), P((X, 0, 0)), P((X, Y, 0)), P((0, Y, 0))], fill="#F2F2F2", stroke="#444444", width=1.2, cls="floor")
-    back = [floor, Line(P((0, Y, 0)), P((0, Y, Z)), "#888888", 1), Line(P((0, Y, 0)), P((X, Y, 0)), "#444444", 1.2),
-            Line(P((0, 0, 0)), P((0, Y, 0)), "#444444", 1.2)]
-    rim_dash = "4 3" if open_top else None
-    front = [Line(P((X, 0, 0)), P((X, 0, Z)), "#888888", 1, dash="2 3"), Line(P((0, 0, 0)), P((0, 0, Z)), "#888888", 1, dash="2 3"),
-             Line(P((X, Y, 0)), P((X, Y, Z)), "#888888", 1, dash="2 3")]
+    last = p.part is None or p.part[0] == p.part[1]
+    floor_style = {"stroke": "#444444", "width": 1.2} if lo == 0 else {"stroke": "#888888", "width": 1.0, "dash": "1 3"}
+    floor = Poly([P((0, 0, lo)), P((X, 0, lo)), P((X, Y, lo)), P((0, Y, lo))], fill="#F2F2F2", cls="floor", **floor_style)
+    back = [floor, Line(P((0, Y, lo)), P((0, Y, Z)), "#888888", 1), Line(P((0, Y, lo)), P((X, Y, lo)), "#444444", 1.2),
+            Line(P((0, 0, lo)), P((0, Y, lo)), "#444444", 1.2)]
+    rim_dash = "4 3" if p.open_top and last else ("1 3" if not last else None)
+    front = [Line(P((X, 0, lo)), P((X, 0, Z)), "#888888", 1, dash="2 3"), Line(P((0, 0, lo)), P((0, 0, Z)), "#888888", 1, dash="2 3"),
+             Line(P((X, Y, lo)), P((X, Y, Z)), "#888888", 1, dash="2 3")]
     rim = [(0, 0, Z), (X, 0, Z), (X, Y, Z), (0, Y, Z)]
     for a, b in zip(rim, rim[1:] + rim[:1]):
         front.append(Line(P(a), P(b), "#888888", 1, dash=rim_dash or "2 3"))
-    name = panel_name(kind, key, open_top)
-    back.append(Text(frame.left, frame.top + HEADER / 2, name, 12, anchor="start", weight="bold", cls="panel-title"))
-    panel = "source" if kind in ("source", "given") else f"{key[0]}#{key[1]}"
-    return Group(back, {"class": "panel", "data-panel": panel}), Group(front, {"class": "panel-front", "data-panel": panel})
+    if p.part is not None:  # where this part's cut lies
+        x, y = P((0, 0, p.start))
+        back += [Line((x - 4, y), (x, y), "#555555", 1, cls="cut"),
+                 Text(x - 5, y, num(round(p.start, 6)), 9, "#555555", anchor="end", cls="cut-text")]
+    back.append(Text(frame.left, frame.top + HEADER / 2, p.name, 12, anchor="start", weight="bold", cls="panel-title"))
+    return Group(back, {"class": "panel", "data-panel": p.data_id}), Group(front, {"class": "panel-front", "data-panel": p.data_id})
 
 
-def _height_mark(rp: Replay, frame: Frame, key, size: Vec3) -> Group:
+def _height_mark(rp: Replay, frame: Frame, p: Panel) -> Group:
     """A dashed rim around the container at its packed height; the page moves it with the slider."""
-    X, Y, _ = size
-    h = rp.steps[-1].heights.get(key, 0.0)
-    rim = [frame.px(p) for p in ((0, 0, h), (X, 0, h), (X, Y, h), (0, Y, h))]
+    X, Y, _ = p.size
+    h = rp.steps[-1].heights.get(p.key, 0.0)  # type: ignore[arg-type]
+    rim = [frame.px(q) for q in ((0, 0, h), (X, 0, h), (X, Y, h), (0, Y, h))]
     items: list[Item] = [Line(a, b, "#000000", 1.2, dash="2 2", cls="height-line") for a, b in zip(rim, rim[1:] + rim[:1])]
     x, y = rim[2]
     items.append(Text(x + 6, y, num(round(h, 6)), 10, anchor="start", cls="height-text"))
     base = frame.px((0, 0, h))[1]
-    return Group(items, height_mark_attrs(rp, key, lambda z: frame.px((0, 0, z))[1] - base))
+    return Group(items, height_mark_attrs(rp, p, lambda z: frame.px((0, 0, z))[1] - base))
 
 
-def _box(rp: Replay, col: Colours, frame: Frame, box_id: str, lo: Vec3, hi: Vec3, side: str, step: Optional[Step]) -> list[Group]:
-    """The faces, marks and labels of one box on one side, as one group (its labels on top)."""
+def _faces(frame: Frame, lo: Vec3, hi: Vec3):
     (x0, y0, z0), (x1, y1, z1) = lo, hi
     P = frame.px
-    fill = col.of(box_id)
     top = [P((x0, y0, z1)), P((x1, y0, z1)), P((x1, y1, z1)), P((x0, y1, z1))]
     front = [P((x0, y0, z0)), P((x1, y0, z0)), P((x1, y0, z1)), P((x0, y0, z1))]
     right = [P((x1, y0, z0)), P((x1, y1, z0)), P((x1, y1, z1)), P((x1, y0, z1))]
+    return top, front, right
+
+
+def _ghost(frame: Frame, lo: Vec3, hi: Vec3, box_id: str) -> Group:
+    """The part of a box drawn in another part of this container: faint faces, no label."""
+    top, front, right = _faces(frame, lo, hi)
+    polys: list[Item] = [Poly(f, fill=palette.GHOST, stroke=palette.GHOST_EDGE, width=0.7, dash="2 2", cls="ghost") for f in (front, right, top)]
+    return Group(polys, {"class": "ghost", "data-box": box_id})
+
+
+def _box(rp: Replay, col: Colours, frame: Frame, c: Content, lo: Vec3, hi: Vec3, nearer: list) -> tuple[Group, Group]:
+    """The faces and marks of one box on one side, and its labels (move number on the top face,
+    id on the front face), each kept inside its face and clear of nearer boxes and the tip mark."""
+    box_id, side, step = c.box, c.side, c.step
+    (x0, y0, z0), (x1, y1, z1) = lo, hi
+    P = frame.px
+    fill = col.of(box_id)
+    top, front, right = _faces(frame, lo, hi)
     attrs = box_attrs(rp, box_id, side, step)
     items: list[Item] = [Poly(front, fill=fill, stroke=palette.OUTLINE, width=0.8, cls="body"),
                          Poly(right, fill=palette.shade(fill, 0.72), stroke=palette.OUTLINE, width=0.8, cls="face"),
                          Poly(top, fill=palette.mix(fill, "#FFFFFF", 0.35), stroke=palette.OUTLINE, width=0.8, cls="face")]
+    obstacles = list(nearer)
     if step is not None and step.tipped:
-        c = P((x1, y0, z1))
-        t = max(6.0, min(14.0, (x1 - x0) * frame.s / 2, (y1 - y0) * frame.s / 2))
-        a, b = P((x0, y0, z1)), P((x1, y1, z1))
-        pa = _toward(c, a, t)
-        pb = _toward(c, b, t)
-        items.append(Poly([c, pa, pb], fill=palette.OUTLINE, stroke="none", width=0, cls="tip-mark"))
+        corner = P((x1, y0, z1))
+        t = max(9.0, min(18.0, (x1 - x0) * frame.s * 0.6, (y1 - y0) * frame.s * 0.6))
+        mark = [corner, _toward(corner, P((x0, y0, z1)), t), _toward(corner, P((x1, y1, z1)), t)]
+        items.append(Poly(mark, fill=palette.OUTLINE, stroke="none", width=0, cls="tip-mark"))
+        obstacles.append(mark)
     if side == "source" and box_id in rp.graph:
         edges = {"left": ((x0, y0, z1), (x0, y1, z1)), "right": ((x1, y0, z1), (x1, y1, z1)),
                  "front": ((x0, y0, z1), (x1, y0, z1)), "back": ((x0, y1, z1), (x1, y1, z1))}
@@ -218,22 +255,50 @@ def _box(rp: Replay, col: Colours, frame: Frame, box_id: str, lo: Vec3, hi: Vec3
         items.append(Poly(front, fill="none", stroke=palette.VIOLATION, width=2.5, dash="4 2", cls="violation"))
         items.append(Poly(top, fill="none", stroke=palette.VIOLATION, width=2.5, dash="4 2", cls="violation"))
     body = Group(items, attrs, box_title(rp, box_id, side))
-    s = frame.s
-    dx, dy, dz = (x1 - x0) * s, (y1 - y0) * s, (z1 - z0) * s
     labels: list[Item] = []
     if step is not None:
-        tag = f"#{step.number}"
-        size = fit_label(tag, min(dx, dy) * 0.9, min(dx, dy) * 0.45)
-        if size:
-            cx = sum(p[0] for p in top) / 4
-            cy = sum(p[1] for p in top) / 4
-            labels.append(Text(cx, cy, tag, size, palette.text_colour(palette.mix(fill, "#FFFFFF", 0.35)), weight="bold"))
-    size = fit_label(box_id, dx * 0.6, dz * 0.55)
-    if size:
-        cx = sum(p[0] for p in front) / 4
-        cy = sum(p[1] for p in front) / 4
-        labels.append(Text(cx, cy, box_id, size, palette.text_colour(fill)))
-    return [body, Group(labels, {**attrs, "class": "label"})]
+        t = face_label(str(step.number), top, obstacles, palette.text_colour(palette.mix(fill, "#FFFFFF", 0.35)), bold=True)
+        if t:
+            labels.append(t)
+    t = face_label(box_id, front, obstacles, palette.text_colour(fill))
+    if t:
+        labels.append(t)
+    return body, Group(labels, {**attrs, "class": "label"})
+
+
+def face_label(text: str, face: list[tuple[float, float]], obstacles: list, colour: str, bold: bool = False) -> Optional[Text]:
+    """`text` at the centre of a (convex) face, as large as fits inside it (13 px at most) and off
+    every obstacle polygon; None when under 7 px would be needed."""
+    cx, cy = sum(p[0] for p in face) / len(face), sum(p[1] for p in face) / len(face)
+    em = text_width(text, 1.0, bold)
+    size = 13.0
+    while size >= SMALLEST:
+        w, h = em * size + 2, size * LINE
+        box = [(cx - w / 2, cy - h / 2), (cx + w / 2, cy - h / 2), (cx + w / 2, cy + h / 2), (cx - w / 2, cy + h / 2)]
+        if all(_inside(q, face) for q in box) and not any(_convex_overlap(box, o, 0.0) for o in obstacles if _near(box, o)):
+            return Text(cx, cy, text, size, colour, weight="bold" if bold else "normal")
+        size -= 0.5
+    return None
+
+
+def _inside(q: tuple[float, float], poly: list[tuple[float, float]]) -> bool:
+    """Is point q inside the convex polygon (either winding)?"""
+    sign = 0.0
+    for k in range(len(poly)):
+        (x0, y0), (x1, y1) = poly[k], poly[(k + 1) % len(poly)]
+        cross = (x1 - x0) * (q[1] - y0) - (y1 - y0) * (q[0] - x0)
+        if abs(cross) < 1e-9:
+            continue
+        if sign == 0.0:
+            sign = cross
+        elif (cross > 0) != (sign > 0):
+            return False
+    return True
+
+
+def _near(a: list, b: list) -> bool:
+    return not (max(p[0] for p in a) < min(p[0] for p in b) or max(p[0] for p in b) < min(p[0] for p in a) or
+                max(p[1] for p in a) < min(p[1] for p in b) or max(p[1] for p in b) < min(p[1] for p in a))
 
 
 def _toward(a: tuple[float, float], b: tuple[float, float], t: float) -> tuple[float, float]:
@@ -242,34 +307,31 @@ def _toward(a: tuple[float, float], b: tuple[float, float], t: float) -> tuple[f
     return a[0] + (b[0] - a[0]) * f, a[1] + (b[1] - a[1]) * f
 
 
-def _centre(b) -> tuple[float, float, float]:
-    return tuple(a + s / 2 for a, s in zip(b.at, b.size))  # type: ignore[return-value]
-
-
-def _edges(rp: Replay, frame: Frame) -> list[Item]:
-    """Precedence edges over the source: direct lift edges solid, side edges dashed."""
+def _edges(rp: Replay, frames: list[Frame], where: dict[str, int], labels: Labels) -> list[Item]:
+    """Precedence edges over the source, each a short arrow where the two boxes meet, routed off
+    the labels: direct lift edges solid, side edges dashed."""
     inst = rp.instance
     lifts = nx.transitive_reduction(lift_graph(rp.graph))
     out: list[Item] = []
     for j, i in sorted(lifts.edges):
         bj, bi = inst.box(j), inst.box(i)
-        a = list(_centre(bj))
-        b = list(_centre(bi))
-        for k in (0, 1):  # run the arrow through the middle of the shared footprint
-            lo, hi = max(bj.at[k], bi.at[k]), min(bj.at[k] + bj.size[k], bi.at[k] + bi.size[k])
-            a[k] = b[k] = (lo + hi) / 2
-        out.append(edge_group(rp, j, i, "lift", Line(frame.px(a), frame.px(b), palette.EDGE_LIFT, 1.4, arrow="solid", cls="lift", halo=True)))
+        frame = frames[where[j]]
+        cands = [(frame.px(a), frame.px(b[:2] + (max(b[2], frame.lo),)))
+                 for a, b in lift_arrows(bj.at, bj.size, bi.at, bi.size, 14.0 / frame.s)]
+        a, b = labels.route(cands)
+        out.append(edge_group(rp, j, i, "lift", Line(a, b, palette.EDGE_LIFT, 1.4, arrow="solid", cls="lift", halo=True)))
     for j, i, kind in sorted(rp.graph.edges(data="kind")):
         if kind == "lift":
             continue
         bj, bi = inst.box(j), inst.box(i)
-        a, b = side_arrow(bj.at, bj.size, bi.at, bi.size, kind, 22.0 / frame.s)
-        line = Line(frame.px(a), frame.px(b), palette.EDGE_SIDE, 1.4, dash="4 2", arrow="open", cls="side", halo=True)
-        out.append(edge_group(rp, j, i, kind, line))
+        frame = frames[where[j] if bj.at[-1] >= bi.at[-1] else where[i]]
+        cands = [(frame.px(a), frame.px(b)) for a, b in side_arrows(bj.at, bj.size, bi.at, bi.size, kind, 22.0 / frame.s)]
+        a, b = labels.route(cands)
+        out.append(edge_group(rp, j, i, kind, Line(a, b, palette.EDGE_SIDE, 1.4, dash="4 2", arrow="open", cls="side", halo=True)))
     return out
 
 
-def _shelf(rp: Replay):
+def _shelf(rp: Replay) -> tuple[list[Content], tuple[float, float, float]]:
     """Boxes with no source, laid out in rows on the floor (x along rows, rows along y)."""
     boxes = rp.instance.boxes
     gap = max(max(b.size) for b in boxes) * 0.15
@@ -278,7 +340,7 @@ def _shelf(rp: Replay):
     for b in boxes:
         if x > 0 and x + b.size[0] > row_len:
             x, y, depth = 0.0, y + depth + gap, 0.0
-        contents.append((b.id, (x, y, 0.0), b.size, None, "source"))
+        contents.append(Content(b.id, (x, y, 0.0), tuple(b.size), None, "source"))
         width = max(width, x + b.size[0])
         x += b.size[0] + gap
         depth = max(depth, b.size[1])

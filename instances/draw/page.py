@@ -28,7 +28,7 @@ def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "
     from . import scene_of
 
     rp = replay(instance, plan)
-    picture = to_svg(scene_of(rp, color_by), standalone=False)
+    picture = to_svg(scene_of(rp, color_by, result), standalone=False)
     data = json.dumps(page_data(rp), ensure_ascii=False, separators=(",", ":"))
     data = data.replace("&", "\\u0026").replace("<", "\\u003c").replace(">", "\\u003e")
     title = escape(instance.name or "instance")
@@ -212,7 +212,7 @@ _JS = r"""
     });
     marks.forEach(function (g) {
       var dy = g.getAttribute("data-dy").split(" "), hs = g.getAttribute("data-h").split(" ");
-      g.setAttribute("transform", "translate(0," + dy[k] + ")");
+      if (dy[k] === "-") { g.setAttribute("display", "none"); } else { g.removeAttribute("display"); g.setAttribute("transform", "translate(0," + dy[k] + ")"); }
       var text = g.querySelector("text.height-text");
       if (text) text.textContent = hs[k];
     });

@@ -25,6 +25,8 @@ EDGE_LIFT = "#000000"
 EDGE_SIDE = "#5A5A5A"
 WALL = "#000000"
 VIOLATION = "#000000"
+GHOST = "#F4F4F4"  # part of a box drawn in another part of a cut container
+GHOST_EDGE = "#9A9A9A"
 
 
 def _rgb(colour: str) -> tuple[float, float, float]:

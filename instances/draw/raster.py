@@ -41,7 +41,7 @@ def to_png(scene: Scene) -> bytes:
         elif isinstance(it, Text):
             ha = {"start": "left", "middle": "center", "end": "right"}[it.anchor]
             ax.text(it.x, it.y, it.text, fontsize=it.size * pt, color=it.colour, ha=ha, va="center_baseline",
-                    fontweight=it.weight, zorder=z, family="DejaVu Sans")
+                    fontweight=it.weight, zorder=z, family="DejaVu Sans", rotation=it.rotate, rotation_mode="anchor")
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
     return buf.getvalue()

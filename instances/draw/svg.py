@@ -56,5 +56,6 @@ def _item(it: Item, out: list[str]) -> None:
     elif isinstance(it, Text):
         cls = f' class="{it.cls}"' if it.cls else ""
         weight = ' font-weight="bold"' if it.weight == "bold" else ""
+        turn = f' transform="rotate({-it.rotate:g} {_f(it.x)} {_f(it.y)})"' if it.rotate else ""
         out.append(f'<text{cls} x="{_f(it.x)}" y="{_f(it.y)}" font-size="{it.size:.1f}" fill="{it.colour}" '
-                   f'text-anchor="{it.anchor}" dominant-baseline="central"{weight}>{escape(it.text)}</text>')
+                   f'text-anchor="{it.anchor}" dominant-baseline="central"{weight}{turn}>{escape(it.text)}</text>')
