@@ -162,7 +162,7 @@ class _Run:
         self.bound = value
         self.prove(claim, method,
                    solver=backends.backend_version(self.backend) if solver_run else None,
-                   confirmed_by=backends.confirmer(self.backend) if solver_run else None,
+                   confirmed_by=backends.confirmer(self.backend) if solver_run else "exact arithmetic",
                    seconds=seconds)
 
 
