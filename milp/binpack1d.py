@@ -23,6 +23,7 @@ Example:
 """
 from __future__ import annotations
 
+import bisect
 import math
 import time
 from collections import Counter
@@ -37,7 +38,8 @@ from .problem import Problem
 
 MAX_SCALE_DIGITS = 4  # sizes with up to 4 decimals are scaled to integers; finer data is not recognised
 SEARCH_SHARE = 0.25  # share of the time left given to the bin-completion search before the arc flow
-SEARCH_NODES = 200_000  # node limit of the bin-completion search
+SEARCH_NODES = 1_000_000  # node limit of the bin-completion search (about a second)
+MAX_ARCS = 2_000_000  # larger arc-flow graphs are not built (memory, model time)
 
 
 @dataclass(frozen=True)
@@ -278,6 +280,7 @@ def complete_bins(lengths: Sequence[int], capacity: int, k: int, deadline: float
     if slack < 0 or (lengths and max(lengths) > capacity):
         return None
     sizes = sorted(set(lengths), reverse=True)
+    descending = [-w for w in sizes]  # ascending keys for bisect: first size <= room
     left = [0] * len(sizes)
     at = {w: t for t, w in enumerate(sizes)}
     for w in lengths:
@@ -285,21 +288,17 @@ def complete_bins(lengths: Sequence[int], capacity: int, k: int, deadline: float
     nodes = [0]
 
     def fill(t: int, room: int, slack: int, chosen: list[int]) -> Iterator[list[int]]:
-        # every way to add items of sizes index >= t to a bin with `room` left, wasting <= slack
+        # every set of items of size index >= t that fits `room` wasting <= slack, fuller sets first
         nodes[0] += 1
         if nodes[0] > node_limit or (nodes[0] & 1023 == 0 and time.perf_counter() > deadline):
             raise _OutOfBudget
-        while t < len(sizes) and (left[t] == 0 or sizes[t] > room):
-            t += 1
-        if t == len(sizes):
-            if room <= slack:
-                yield chosen
-            return
-        w = sizes[t]
-        for c in range(min(left[t], room // w), -1, -1):
-            left[t] -= c
-            yield from fill(t + 1, room - c * w, slack, chosen + [t] * c)
-            left[t] += c
+        for j in range(bisect.bisect_left(descending, -room, lo=t), len(sizes)):
+            if left[j]:
+                left[j] -= 1
+                yield from fill(j, room - sizes[j], slack, chosen + [j])
+                left[j] += 1
+        if room <= slack:
+            yield chosen
 
     failed: dict[tuple[int, ...], int] = {}  # items left -> largest slack with which they failed
 
@@ -351,8 +350,9 @@ class ArcFlowResult:
     nodes: int
 
 
-def arc_graph(lengths: Sequence[int], capacity: int) -> tuple[list[int], list[tuple[int, int, int]]]:
-    """Nodes and item arcs (tail, head, size index) of the reduced arc-flow graph.
+def arc_graph(lengths: Sequence[int], capacity: int,
+              max_arcs: int = MAX_ARCS) -> Optional[tuple[list[int], list[tuple[int, int, int]]]]:
+    """Nodes and item arcs (tail, head, size index) of the reduced arc-flow graph; None past `max_arcs`.
 
     Sizes are taken in decreasing order; an arc of size w starts only at a point reachable by
     larger sizes plus fewer than d_w copies of w (Valério de Carvalho 1999, section 3).
@@ -370,24 +370,64 @@ def arc_graph(lengths: Sequence[int], capacity: int) -> tuple[list[int], list[tu
                 break
             seen |= level
             arcs.extend((u, u + w, t) for u in level)
+            if len(arcs) > max_arcs:
+                return None
             level = {u + w for u in level}
             reach |= level
-    return sorted(reach | {capacity}), arcs
+    return compress(arcs, sizes, capacity)
+
+
+def compress(arcs: list[tuple[int, int, int]], sizes: Sequence[int],
+             capacity: int) -> tuple[list[int], list[tuple[int, int, int]]]:
+    """Merge points of an arc-flow graph by relabelling (Brandão & Pedroso 2016, "Bin packing and
+    related problems: general arc-flow formulation with graph compression", C&OR 69, steps 3-4).
+
+    First each point moves up to the latest it could be (the least over its arcs of the head's
+    label minus the item), then down to the earliest (the most over arcs into it of the tail's
+    label plus the item); points with one label become one. Every arc still spans at least its
+    item, so every path still holds items of total length at most C, and every path of the
+    original graph survives: the model stays exact. Returns the points (source first, sink last)
+    and the distinct arcs.
+    """
+    out: dict[int, list[tuple[int, int]]] = {}
+    points = {capacity}
+    for u, v, t in arcs:
+        out.setdefault(u, []).append((v, t))
+        points.update((u, v))
+    late = {}
+    for u in sorted(points, reverse=True):
+        late[u] = min((late[v] - sizes[t] for v, t in out.get(u, ())), default=capacity)
+    moved = {(late[u], late[v], t) for u, v, t in arcs}
+    into: dict[int, list[tuple[int, int]]] = {}
+    for u, v, t in moved:
+        into.setdefault(v, []).append((u, t))
+    early = {}
+    for v in sorted({late[p] for p in points}):
+        early[v] = max((early[u] + sizes[t] for u, t in into.get(v, ())), default=0)
+    merged = sorted({(early[u], early[v], t) for u, v, t in moved})
+    return sorted(set(early.values())), merged
 
 
 def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, deadline: float) -> ArcFlowResult:
-    """Minimise the bins of the arc-flow model (at most `upper`, at least the proved `lower`)."""
+    """Minimise the bins of the arc-flow model (at most `upper`, at least the proved `lower`).
+
+    A graph past MAX_ARCS is not built: the result then has no bins and proves nothing.
+    """
     import highspy
 
     from bounds.contiguous import _quiet_highs
 
     demand = Counter(lengths)
     sizes = sorted(demand, reverse=True)
-    nodes, arcs = arc_graph(lengths, capacity)
-    row_of = {v: r for r, v in enumerate(v for v in nodes if v not in (0, capacity))}
+    graph = arc_graph(lengths, capacity)
+    if graph is None:
+        return ArcFlowResult(None, float(lower), False, MAX_ARCS, 0)
+    nodes, arcs = graph
+    source, sink = nodes[0], nodes[-1]
+    row_of = {v: r for r, v in enumerate(v for v in nodes if v not in (source, sink))}
     n_flow = len(row_of)
     # loss arcs: from every inner point straight to the end (the bin's unused room)
-    arcs = arcs + [(v, capacity, -1) for v in row_of]
+    arcs = arcs + [(v, sink, -1) for v in row_of]
     m = len(arcs)
     rows: list[int] = []
     cols: list[int] = []
@@ -399,7 +439,7 @@ def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, dead
             rows.append(row_of[v]), cols.append(k), vals.append(1.0)
         if t >= 0:
             rows.append(n_flow + t), cols.append(k), vals.append(1.0)
-        if u == 0:
+        if u == source:
             rows.append(n_flow + len(sizes)), cols.append(k), vals.append(1.0)
     from scipy.sparse import coo_matrix
 
@@ -407,7 +447,7 @@ def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, dead
     A = coo_matrix((vals, (rows, cols)), shape=(n_rows, m)).tocsc()
     row_lo = np.concatenate([np.zeros(n_flow), [float(demand[w]) for w in sizes], [float(lower)]])
     row_hi = np.concatenate([np.zeros(n_flow), [float(demand[w]) for w in sizes], [float(upper)]])
-    cost = np.array([1.0 if u == 0 else 0.0 for u, _, _ in arcs])
+    cost = np.array([1.0 if u == source else 0.0 for u, _, _ in arcs])
     h = _quiet_highs()
     h.setOptionValue("time_limit", max(0.05, deadline - time.perf_counter()))
     h.setOptionValue("threads", 1)
@@ -428,13 +468,13 @@ def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, dead
     bins = None
     if info.primal_solution_status == highspy.SolutionStatus.kSolutionStatusFeasible:
         flow = np.rint(np.asarray(h.getSolution().col_value)).astype(int)
-        bins = _assign(lengths, _decompose(arcs, flow, sizes, demand, capacity))
+        bins = _assign(lengths, _decompose(arcs, flow, sizes, source, sink))
     return ArcFlowResult(bins, bound, proved, m, len(nodes))
 
 
-def _decompose(arcs: list[tuple[int, int, int]], flow: np.ndarray, sizes: list[int], demand: Counter,
-               capacity: int) -> list[list[int]]:
-    """Split an integer flow into paths 0 -> C, one bin each, as lists of sizes."""
+def _decompose(arcs: list[tuple[int, int, int]], flow: np.ndarray, sizes: list[int], source: int,
+               sink: int) -> list[list[int]]:
+    """Split an integer flow into paths source -> sink, one bin each, as lists of sizes."""
     out: dict[int, list[int]] = {}
     for k, (u, _, _) in enumerate(arcs):
         if flow[k] > 0:
@@ -442,7 +482,7 @@ def _decompose(arcs: list[tuple[int, int, int]], flow: np.ndarray, sizes: list[i
     flow = flow.copy()
     bins: list[list[int]] = []
     while True:
-        start = next((k for k in out.get(0, []) if flow[k] > 0), None)
+        start = next((k for k in out.get(source, []) if flow[k] > 0), None)
         if start is None:
             return bins
         path, k = [], start
@@ -451,7 +491,7 @@ def _decompose(arcs: list[tuple[int, int, int]], flow: np.ndarray, sizes: list[i
             u, v, t = arcs[k]
             if t >= 0:
                 path.append(sizes[t])
-            if v == capacity:
+            if v == sink:
                 break
             k = next(k for k in out[v] if flow[k] > 0)
         bins.append(path)
@@ -473,16 +513,11 @@ def plans_1d(instance: Instance, problem: Problem, lower: float, deadline: float
     if len(best) <= target or time.perf_counter() >= deadline:
         return
     share = time.perf_counter() + SEARCH_SHARE * (deadline - time.perf_counter())
-    for k in range(target, min(len(best), count + 1)):
-        if time.perf_counter() >= share:
-            break
-        found = complete_bins(lengths, cap, k, share)
+    if target <= count:
+        found = complete_bins(lengths, cap, target, share)
         if found is not None:
             yield to_plan(instance, data, found)
-            if k <= target:
-                return
-            best = found
-            break
+            return
     upper = min(len(best) - 1, count)
     if upper < target or time.perf_counter() >= deadline:
         return
