@@ -34,17 +34,22 @@ from instances.model import Instance
 
 from . import bins as _bins
 from . import geometric as _geo
+from .bar import TIME_LIMIT as BAR_SECONDS
 from .bar import bar_bound
 from .common import BoundValue, View
+from .contiguous import TIME_LIMIT as CONTIGUOUS_SECONDS
 from .contiguous import contiguous_bound
 from .order import order_bound, order_per_container
 
 __all__ = ["BoundValue", "all_bounds", "best"]
 
 
-def all_bounds(instance: Instance) -> list[BoundValue]:
-    """Every lower bound that applies to `instance`, in a fixed order."""
-    view = View(instance)
+def all_bounds(instance: Instance, time_limit: float = math.inf) -> list[BoundValue]:
+    """Every lower bound that applies to `instance`, in a fixed order.
+
+    `time_limit` caps the bounds that iterate or solve (bar, contiguous); the others are fast.
+    """
+    view = View(instance, time_limit)
     objective = instance.objective.minimise
     if not instance.boxes:
         return [BoundValue("area", 0.0, "no boxes")]
@@ -54,15 +59,16 @@ def all_bounds(instance: Instance) -> list[BoundValue]:
     out = [b for b in (_timed(name, fn) for name, fn in _bounds_for(view, objective)) if b is not None]
     if objective == "height":
         lower = max((b.value for b in out), default=0.0)
-        extra = _timed("contiguous", lambda: contiguous_bound(view, lower))
+        extra = _timed("contiguous", lambda: contiguous_bound(
+            view, lower, time_limit=min(CONTIGUOUS_SECONDS, view.time_left() / 2)))
         if extra is not None:
             out.append(extra)
     return out
 
 
-def best(instance: Instance) -> tuple[float, dict[str, float]]:
-    """(largest bound, {name: value}) for `instance`."""
-    values = {b.name: b.value for b in all_bounds(instance)}
+def best(instance: Instance, time_limit: float = math.inf) -> tuple[float, dict[str, float]]:
+    """(largest bound, {name: value}) for `instance`, the slow bounds capped at `time_limit` seconds."""
+    values = {b.name: b.value for b in all_bounds(instance, time_limit)}
     return max(values.values(), default=0.0), values
 
 
@@ -98,7 +104,7 @@ def _bounds_for(view: View, objective: str) -> list[tuple[str, Callable]]:
 
 
 def _bar(view: View, objective: str) -> Optional[tuple[float, str]]:
-    got = bar_bound(view.instance, view, objective)
+    got = bar_bound(view.instance, view, objective, time_limit=min(BAR_SECONDS, view.time_left()))
     if got is None:
         return None
     value, converged = got
@@ -121,7 +127,7 @@ def _type_sum(view: View, objective: str) -> tuple[float, str]:
             continue
         sub = replace(inst, source=None, containers=(k,), name=None, known=None,
                       boxes=tuple(replace(b, at=None, target=None, orientations=view.orientations(b)) for b in boxes))
-        value, _ = best(sub)
+        value, _ = best(sub, view.time_left())
         if order and k.id in order:
             value = max(value, view.round_height(order[k.id][0]))
         if objective == "bins" and value > k.count:

@@ -7,6 +7,7 @@ this module is specific to one bound.
 from __future__ import annotations
 
 import math
+import time
 from dataclasses import dataclass
 from functools import cached_property
 from typing import Optional
@@ -37,10 +38,15 @@ class BoundValue:
 class View:
     """Cached facts about one instance that several bounds share (usable orientations, fits, rounding)."""
 
-    def __init__(self, instance: Instance):
+    def __init__(self, instance: Instance, time_limit: float = math.inf):
         self.instance = instance
         self.tol = instance.rules.tolerance
         self.slack = SLACK_FACTOR * self.tol
+        self.deadline = time.perf_counter() + time_limit
+
+    def time_left(self) -> float:
+        """Seconds left for the bounds that iterate or solve (bar, contiguous); never negative."""
+        return max(0.0, self.deadline - time.perf_counter())
 
     @cached_property
     def walls(self) -> dict[str, frozenset[str]]:

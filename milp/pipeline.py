@@ -101,6 +101,10 @@ class _Run:
         ub = self.upper
         return ub is not None and ub <= self.bound + 1e-9 * max(1.0, abs(ub))
 
+    def grace(self) -> float:
+        """How far past the time limit a run may end: 10 % of it or 2 s, whichever is larger."""
+        return max(2.0, 0.1 * self.time_limit)
+
     def share(self) -> float:
         """Time for a solve whose answer may need confirming: the rest is kept for the second solve."""
         return max(0.1, PRIMARY_SHARE * self.left())
@@ -128,8 +132,8 @@ class _Run:
         """
         if out.bound is None:
             return None
-        second = backends.confirm(lp, time_limit=max(0.1, self.left()), threads=self.threads, seed=self.seed,
-                                  log=self.log, integral=integral)
+        second = backends.confirm(lp, time_limit=max(0.1, self.left() + 0.5 * self.grace()), threads=self.threads,
+                                  seed=self.seed, log=self.log, integral=integral)
         self._count(second)
         label = backends.confirmer(self.backend)
         if second.objective is not None and extract is not None and second.status in ("optimal", "feasible"):
@@ -167,7 +171,9 @@ class _Run:
 
 
 #: Share of the time left that a solve may use when its answer may have to be confirmed.
-PRIMARY_SHARE = 0.6
+PRIMARY_SHARE = 0.75
+#: Share of the time limit the slow lower bounds (bar, contiguous) may use.
+BOUNDS_SHARE = 0.2
 
 
 def _safe_cap(p: Problem) -> float:
@@ -187,7 +193,7 @@ def _lower_bounds(run: _Run) -> None:
     if best is None:
         return
     try:
-        value, named = best(run.instance)
+        value, named = best(run.instance, BOUNDS_SHARE * run.time_limit)
     except Exception as exc:  # a failing bound must not sink the solve; say so in the notes
         run.notes.append(f"lower bounds unavailable ({type(exc).__name__}: {exc}); using the model's own")
         return
@@ -420,8 +426,10 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
     seconds = lambda: round(time.perf_counter() - t0, 3)
 
     def result(status: str, **kw) -> Result:
-        if seconds() > time_limit + max(2.0, 0.1 * time_limit):
+        if seconds() > time_limit + run.grace():
             run.notes.append(f"time limit overrun: {seconds():g} s against {time_limit:g} s")
+        run.notes.extend(f"proof step: {s.claim} ({s.method}{'; ' + s.solver if s.solver else ''}; confirmed by "
+                         f"{s.confirmed_by})" for s in run.steps)
         return Result(instance.name, status, bounds=run.bounds, notes=tuple(run.notes), solver=info(),
                       seconds=seconds(), provenance=_provenance(instance, run), **kw)
 
