@@ -303,9 +303,42 @@ def test_interrupt_stops_the_solves_in_flight(tmp_path):
     time.sleep(1.0)
     proc.send_signal(signal.SIGINT)
     proc.wait(timeout=30)
-    assert proc.returncode != 0
+    assert proc.returncode == 130
     assert all_gone(children)
     assert not (tmp_path / "r.jsonl").exists() or (tmp_path / "r.jsonl").read_text() == ""
+
+
+def test_ctrl_c_prints_no_traceback_and_the_same_command_resumes(tmp_path):
+    suite = small_suite(tmp_path / "s", 3)
+    results = tmp_path / "r.jsonl"
+    cmd = [sys.executable, "-m", "benchmarks.cli", "bench", str(suite), "--solver", "tests.test_bench_solvers:slow_drop_solve",
+           "--results", str(results), "--time-limit", "5"]
+    env = dict(os.environ, PYTHONPATH=str(REPO), STACKPROOF_TEST_DELAY="2.0")
+    proc = subprocess.Popen(cmd, cwd=REPO, env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline and (not results.exists() or not results.read_text().strip()):
+        time.sleep(0.05)
+    proc.send_signal(signal.SIGINT)
+    out, err = proc.communicate(timeout=60)
+    assert proc.returncode == 130, err
+    assert "Traceback" not in err and "KeyboardInterrupt" not in err
+    assert "interrupted" in err and str(results) in err and "resume" in err
+    done = len(lines(results))
+    assert 1 <= done < 3
+    again = subprocess.run(cmd, cwd=REPO, env=dict(env, STACKPROOF_TEST_DELAY="0"), capture_output=True, text=True, timeout=120)
+    assert again.returncode == 0, again.stderr
+    assert f"{done} of 3 instances already done" in again.stderr  # the resumed run says what it skipped
+    assert sorted(r["name"] for r in lines(results)) == ["pair1", "pair2", "pair3"]
+
+
+def test_a_run_without_any_checked_result_fails(tmp_path, capsys):
+    suite = small_suite(tmp_path / "s", 2)
+    assert main(["bench", str(suite), "--solver", "tests.test_bench_solvers:crash_solve", "--quiet"]) == 1
+    captured = capsys.readouterr()
+    assert "no instance produced a checked result" in captured.err and "deliberate crash" in captured.err
+    assert main(["bench", str(suite), "--solver", DROP, "--quiet"]) == 0  # the same suite with a working solver passes
+    assert main(["bench", str(suite), "--solver", "tests.test_bench_solvers:no_such_function", "--quiet"]) == 2
+    assert "--solver: cannot load" in capsys.readouterr().err  # refused before any solve starts
 
 
 # ---------------------------------------------------------------- Dask

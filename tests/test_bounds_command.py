@@ -63,3 +63,15 @@ def test_bad_input_names_the_file_and_field_and_exits_2(tmp_path, content, field
     assert out.returncode == 2
     assert str(path) in out.stderr and field in out.stderr
     assert "Traceback" not in out.stderr
+
+
+def test_reasons_speak_of_area_in_2d_and_volume_in_3d(tmp_path):
+    out = run(demo_instance_path())  # the demo is 2D
+    reasons = {line.split()[0]: line for line in out.stdout.splitlines()[1:-1]}
+    assert "area " in reasons["area"] and "width" in reasons["area"] and "volume" not in out.stdout
+    doc = {"format": "stackproof/instance", "version": 1, "dim": 3,
+           "boxes": [{"id": "a", "size": [2, 2, 2]}, {"id": "b", "size": [2, 2, 1]}], "containers": [{"id": "c", "size": [2, 2, None]}]}
+    path = tmp_path / "cube.json"
+    path.write_text(json.dumps(doc))
+    line = next(x for x in run(path).stdout.splitlines() if x.startswith("area"))
+    assert "volume 12 of 2 boxes over the base of c" in line

@@ -101,3 +101,26 @@ def test_check_of_a_result_confirms_its_claims(files, tmp_path):
     result["objective"] = result["bound"] = 5
     r.write_text(json.dumps(result))
     assert run("check", files[0], r).returncode == 0
+
+
+def test_version_names_the_package_version():
+    from importlib.metadata import version
+
+    out = run("--version")
+    assert out.returncode == 0 and out.stdout.startswith(f"stackproof {version('stackproof')}")
+
+
+def test_check_of_a_plan_or_result_for_another_instance_says_so_first(files, tmp_path):
+    other = dict(copy.deepcopy(FORMATS_PLAN), instance="dock-8-evening")
+    p = tmp_path / "other.json"
+    p.write_text(json.dumps(other))
+    out = run("check", files[0], p)
+    assert out.returncode == 2 and out.stdout == ""  # nothing replayed
+    assert out.stderr.strip() == (f"stackproof check: {p}: instance: this plan is for another instance: it names "
+                                  f"\"dock-8-evening\", but {files[0]} holds \"dock-7-morning\"")
+    result = {"format": "stackproof/result", "version": 1, "instance": "dock-7-morning", "status": "optimal",
+              "objective": 5, "bound": 5, "gap": 0.0, "plan": other, "checked": True}
+    r = tmp_path / "result.json"
+    r.write_text(json.dumps(result))
+    out = run("check", files[0], r)
+    assert out.returncode == 2 and "plan.instance: this result is for another instance" in out.stderr

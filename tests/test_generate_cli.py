@@ -86,3 +86,21 @@ def test_identical_bytes_across_processes_with_different_hash_seeds(tmp_path, ki
                         "--targets", "2", *extra, "-o", str(tmp_path / str(k))], check=True, env=env, cwd=root,
                        capture_output=True)
     assert _files(tmp_path / "0") == _files(tmp_path / "1")
+
+
+@pytest.mark.parametrize("kind", ["random", "planted"])
+def test_every_option_has_help_text(kind):
+    from benchmarks.cli import build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._subparsers._group_actions[0].choices["generate"]._actions if a.dest == "kind")
+    for action in sub.choices[kind]._actions:
+        assert action.help, f"generate {kind} {action.option_strings} has no help text"
+
+
+def test_onto_an_existing_file_is_refused_and_the_file_kept(tmp_path, capsys):
+    target = tmp_path / "taken"
+    target.write_text("keep")
+    assert main(["generate", "random", "--dim", "2", "--boxes", "3", "-o", str(target)]) == 2
+    assert f"{target}: -o: is a file, not a folder" in capsys.readouterr().err
+    assert target.read_text() == "keep"

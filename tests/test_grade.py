@@ -141,3 +141,35 @@ def test_several_heuristics_are_compared_with_a_profile(tmp_path, user_module, c
     assert page.count("data:image/png;base64,") == 2 and "Performance profile" in page
     assert len((out / "grade.csv").read_text().splitlines()) == 5
     assert main(["grade", str(suite)]) == 2
+
+
+def test_a_folder_written_by_generate_grades_its_plans_not_its_instances(tmp_path, capsys):
+    # the plan-file naming rule: NAME.plan.json before NAME.json, and an instance file is never a plan
+    folder = tmp_path / "set"
+    assert main(["generate", "planted", "--dim", "2", "--boxes", "5", "--count", "2", "-o", str(folder)]) == 0
+    capsys.readouterr()
+    assert main(["grade", str(folder), "--plans", str(folder), "--json"]) == 0
+    rows = json.loads(capsys.readouterr().out)["instances"]
+    assert len(rows) == 2 and all(r["feasible"] and r["gold_kind"] == "known" and r["gap"] == 0 for r in rows)
+    for plan in folder.glob("*.plan.json"):
+        plan.unlink()
+    assert main(["grade", str(folder), "--plans", str(folder), "--json"]) == 1
+    rows = json.loads(capsys.readouterr().out)["instances"]
+    assert all("no plan file" in r["violations"][0] for r in rows)  # the instance X.json is not taken as X's plan
+
+
+def test_the_table_shows_gaps_in_percent_and_moves_from_1(tmp_path, capsys):
+    a = strip_instance("alpha", [(1, 1)] * 2, 2, Known("invented: two unit squares side by side", 1.0))
+    suite = write_suite(tmp_path / "s", [a])
+    plans = tmp_path / "plans"
+    tall = plan_to_dict(drop_plan(a))
+    tall["moves"][1]["at"] = [0, 1]  # stacked: height 2 against the known 1, a 50 % gap
+    write_json(plans / "alpha.plan.json", tall)
+    assert main(["grade", str(suite), "--plans", str(plans)]) == 0
+    out = capsys.readouterr().out
+    assert "50.00%" in out and "gap mean 50.00%" in out
+    tall["moves"][1]["at"] = [0, 0]  # now both at the origin: move 2 overlaps move 1
+    write_json(plans / "alpha.plan.json", tall)
+    assert main(["grade", str(suite), "--plans", str(plans), "--json"]) == 1
+    row = json.loads(capsys.readouterr().out)["instances"][0]
+    assert row["violations"][0].startswith("move 2 (box b1): overlap")

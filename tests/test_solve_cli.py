@@ -139,3 +139,48 @@ def test_ctrl_c_writes_the_best_checked_plan(tmp_path):
     assert result.status in ("feasible", "optimal") and result.checked
     report = check_plan(read_instance(inst_path), result.plan)
     assert report.feasible and report.objective == result.objective
+
+
+def test_a_bad_output_is_refused_before_the_solve_starts(formats_file, tmp_path, monkeypatch, capsys):
+    import milp
+
+    def must_not_run(*a, **k):
+        raise AssertionError("the solve ran before the output path was checked")
+
+    monkeypatch.setattr(milp, "solve", must_not_run)
+    (tmp_path / "adir").mkdir()
+    (tmp_path / "afile").write_text("x")
+    for option, path in (("-o", tmp_path / "adir"), ("--export-model", tmp_path / "adir"),
+                         ("-o", tmp_path / "afile" / "r.json"), ("--export-model", tmp_path / "afile" / "m.lp")):
+        assert main(["solve", str(formats_file), option, str(path)]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 4 and "-o: is a folder" in err and "--export-model:" in err
+
+
+def test_a_result_that_cannot_be_written_after_the_solve_goes_to_stdout(formats_file, tmp_path, monkeypatch, capsys):
+    import benchmarks.commands.solve as command
+
+    def fail(path, doc):
+        raise OSError(28, "No space left on device", str(path))
+
+    monkeypatch.setattr(command, "write_json", fail)
+    assert main(["solve", str(formats_file), "-o", str(tmp_path / "r.json"), "--quiet"]) == 2
+    captured = capsys.readouterr()
+    assert json.loads(captured.out)["status"] == "optimal"  # the solve is not lost
+    assert "no space left on device" in captured.err and "printed to stdout" in captured.err
+
+
+def test_progress_line_on_a_terminal_only(formats_file, tmp_path, monkeypatch):
+    import io
+    import sys
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    for quiet, expect in (([], True), (["--quiet"], False)):
+        tty = Terminal()
+        monkeypatch.setattr(sys, "stderr", tty)
+        assert main(["solve", str(formats_file), "-o", str(tmp_path / "r.json"), *quiet]) == 0
+        assert ("incumbent" in tty.getvalue()) == expect
+        assert ("gap" in tty.getvalue()) == expect
