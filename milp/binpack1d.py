@@ -39,7 +39,7 @@ from .problem import Problem
 MAX_SCALE_DIGITS = 4  # sizes with up to 4 decimals are scaled to integers; finer data is not recognised
 SEARCH_SHARE = 0.25  # share of the time left given to the bin-completion search before the arc flow
 SEARCH_NODES = 1_000_000  # node limit of the bin-completion search (about a second)
-MAX_ARCS = 2_000_000  # larger arc-flow graphs are not built (memory, model time)
+MAX_ARCS = 400_000  # larger arc-flow graphs are not built (about a second of Python to build this many)
 
 
 @dataclass(frozen=True)
@@ -423,6 +423,8 @@ def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, dead
     if graph is None:
         return ArcFlowResult(None, float(lower), False, MAX_ARCS, 0)
     nodes, arcs = graph
+    if time.perf_counter() >= deadline:
+        return ArcFlowResult(None, float(lower), False, len(arcs), len(nodes))
     source, sink = nodes[0], nodes[-1]
     row_of = {v: r for r, v in enumerate(v for v in nodes if v not in (source, sink))}
     n_flow = len(row_of)
