@@ -240,9 +240,11 @@ def _box(rp: Replay, col: Colours, frame: Frame, c: Content, lo: Vec3, hi: Vec3,
                          Poly(top, fill=palette.mix(fill, "#FFFFFF", 0.35), stroke=palette.OUTLINE, width=0.8, cls="face")]
     obstacles = list(nearer)
     if step is not None and step.tipped:
-        corner = P((x1, y0, z1))
-        t = max(9.0, min(18.0, (x1 - x0) * frame.s * 0.6, (y1 - y0) * frame.s * 0.6))
-        mark = [corner, _toward(corner, P((x0, y0, z1)), t), _toward(corner, P((x1, y1, z1)), t)]
+        # in the corner nearest the viewer, on the top face or, when the box is shallow, the front face
+        corner, along = P((x1, y0, z1)), P((x0, y0, z1))
+        other = max((P((x1, y1, z1)), P((x1, y0, z0))), key=lambda q: math.dist(corner, q))
+        t = max(10.0, min(18.0, 0.5 * math.dist(corner, along), 0.5 * math.dist(corner, other)))
+        mark = [corner, _toward(corner, along, t), _toward(corner, other, t)]
         items.append(Poly(mark, fill=palette.OUTLINE, stroke="none", width=0, cls="tip-mark"))
         obstacles.append(mark)
     if side == "source" and box_id in rp.graph:

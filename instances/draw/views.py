@@ -60,10 +60,11 @@ class Panel:
     start: float = 0.0  # where this part's cut lies (its boxes' bottoms are at or above it)
 
     def holds(self, h: float) -> bool:
-        """Is height `h` shown in this part (and not in the next)? An uncut panel shows every height."""
+        """Is height `h` shown in this part? The parts' [start, until) ranges cover every height once;
+        an uncut panel shows every height."""
         if self.part is None:
             return True
-        return self.lo - 1e-9 <= h <= self.top + 1e-9 and (self.until is None or h < self.until)
+        return self.start - 1e-9 <= h and (self.until is None or h < self.until - 1e-9)
 
     @property
     def top(self) -> float:
