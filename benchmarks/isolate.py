@@ -93,11 +93,16 @@ def allow_solves() -> None:
     _STOPPED.clear()
 
 
+def stop_solves() -> None:
+    """An interrupted run: start no new solve until `allow_solves` (no job that was about to start
+    slips through), and kill those that run."""
+    _STOPPED.set()
+    kill_live_solves()
+
+
 def kill_live_solves() -> None:
-    """Kill every solve process this process started and start no new one until `allow_solves`
-    (an interrupted run leaves none behind, and no job waiting for a thread slips through)."""
+    """Kill every solve process this process started (an interrupted run leaves none behind)."""
     with _LOCK:
-        _STOPPED.set()
         procs = list(_LIVE)
     for proc in procs:
         _kill_group(proc)

@@ -20,7 +20,7 @@ from typing import Callable, Iterator, Optional, Sequence
 from instances.io import instance_to_dict, plan_to_dict, result_from_dict
 from instances.model import Result
 
-from .isolate import REPO_ROOT, allow_solves, kill_live_solves, solve_isolated
+from .isolate import REPO_ROOT, allow_solves, kill_live_solves, solve_isolated, stop_solves
 from .progress import StatusLine
 from .results import ResultsFile, is_proven
 from .suites import SuiteEntry, instance_hash, shuffled
@@ -199,7 +199,10 @@ def _local(jobs: int) -> Callable[[list[tuple[dict, float]]], Iterator[tuple[int
             futures = {pool.submit(solve_isolated, job, wall): k for k, (job, wall) in enumerate(work)}
             for f in as_completed(futures):
                 yield futures[f], f.result()
-        finally:  # also on Ctrl-C or an error: start nothing more, stop what runs
+        except BaseException:  # Ctrl-C or an error: no job still waiting for a thread may start
+            stop_solves()
+            raise
+        finally:  # start nothing more, stop what runs
             pool.shutdown(wait=False, cancel_futures=True)
             kill_live_solves()
 

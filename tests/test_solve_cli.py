@@ -116,6 +116,12 @@ def test_export_model_and_cbc(formats_file, tmp_path):
 def test_ctrl_c_writes_the_best_checked_plan(tmp_path):
     # A real SIGINT to a real solve of an instance that does not close within the limit
     # (generated strip, n=14, seed 4: measured open after 60 s): exit 0 with a checked plan.
+    # stderr is a pseudo-terminal, so the progress line shows when an incumbent exists; the
+    # signal is sent then (not after a fixed sleep, which a loaded machine can outrun).
+    import os
+    import pty
+    import re
+    import select
     import signal
     import subprocess
     import sys
@@ -126,14 +132,30 @@ def test_ctrl_c_writes_the_best_checked_plan(tmp_path):
 
     inst_path, out = tmp_path / "hard.json", tmp_path / "r.json"
     write_json(inst_path, instance_to_dict(make_instance("strip", 2, 14, 4)))
+    master, slave = pty.openpty()
     proc = subprocess.Popen([sys.executable, "-m", "benchmarks.cli", "solve", str(inst_path), "-o", str(out),
-                             "--time-limit", "300"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                             "--time-limit", "300"], stdout=subprocess.PIPE, stderr=slave,
                             preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
-    time.sleep(4.0)
+    os.close(slave)
+    seen, deadline = b"", time.monotonic() + 120
+    while time.monotonic() < deadline and not re.search(rb"incumbent \d", seen):
+        if select.select([master], [], [], 0.5)[0]:
+            try:
+                seen += os.read(master, 4096)
+            except OSError:
+                break
+    assert re.search(rb"incumbent \d", seen), seen[-500:]
     proc.send_signal(signal.SIGINT)
     t0 = time.time()
     # HiGHS looks at the interrupt flag between phases; its presolve on this model takes ~25 s
-    assert proc.wait(timeout=200) == 0
+    while proc.poll() is None and time.time() - t0 < 200:
+        if select.select([master], [], [], 0.5)[0]:
+            try:
+                os.read(master, 4096)  # keep the terminal drained
+            except OSError:
+                pass
+    os.close(master)
+    assert proc.wait(timeout=10) == 0
     assert time.time() - t0 < 150
     result = read_result(out)
     assert result.status in ("feasible", "optimal") and result.checked
