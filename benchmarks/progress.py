@@ -9,7 +9,7 @@ import shutil
 import sys
 import threading
 import time
-from typing import Optional, TextIO
+from typing import Callable, Optional, TextIO
 
 from .text import number, percent
 
@@ -76,37 +76,51 @@ def solve_status(info: dict, elapsed: float) -> str:
             f"bound {number(info.get('bound'))}  gap {percent(info.get('gap'))}  {elapsed:.1f} s")
 
 
-class SolveProgress:
-    """Pass as `milp.solve(progress=...)`: keeps one line with incumbent, bound, gap and elapsed
-    time; a ticker thread refreshes the time between the solver's calls. Use as a context manager."""
+class Ticker:
+    """Redraws `line` with `render()` every `interval` seconds in a daemon thread (so elapsed time
+    moves between events); a no-op when the line is off. Use as a context manager or start/stop."""
 
-    def __init__(self, line: StatusLine, interval: float = 0.5):
-        self.line, self.interval = line, interval
-        self.info: dict = {"stage": "start"}
-        self.start = time.monotonic()
+    def __init__(self, line: StatusLine, render: Callable[[], str], interval: float = 0.5):
+        self.line, self.render, self.interval = line, render, interval
         self._stop = threading.Event()
         self._thread: Optional[threading.Thread] = None
 
-    def __call__(self, info: dict) -> None:
-        self.info = dict(info)
-        self._redraw()
+    def redraw(self) -> None:
+        self.line.show(self.render())
 
-    def _redraw(self) -> None:
-        self.line.show(solve_status(self.info, time.monotonic() - self.start))
-
-    def _tick(self) -> None:
+    def _run(self) -> None:
         while not self._stop.wait(self.interval):
-            self._redraw()
+            self.redraw()
 
-    def __enter__(self) -> "SolveProgress":
-        if self.line.on:
-            self._redraw()
-            self._thread = threading.Thread(target=self._tick, name="stackproof-progress", daemon=True)
+    def start(self) -> "Ticker":
+        if self.line.on and self._thread is None:
+            self.redraw()
+            self._thread = threading.Thread(target=self._run, name="stackproof-progress", daemon=True)
             self._thread.start()
         return self
 
-    def __exit__(self, *exc) -> None:
+    def stop(self) -> None:
         self._stop.set()
         if self._thread is not None:
             self._thread.join(timeout=2)
         self.line.close()
+
+    def __enter__(self):
+        return self.start()
+
+    def __exit__(self, *exc) -> None:
+        self.stop()
+
+
+class SolveProgress(Ticker):
+    """Pass as `milp.solve(progress=...)`: keeps one line with incumbent, bound, gap and elapsed
+    time, refreshed between the solver's calls. Use as a context manager."""
+
+    def __init__(self, line: StatusLine, interval: float = 0.5):
+        super().__init__(line, lambda: solve_status(self.info, time.monotonic() - self.started), interval)
+        self.info: dict = {"stage": "start"}
+        self.started = time.monotonic()
+
+    def __call__(self, info: dict) -> None:
+        self.info = dict(info)
+        self.redraw()

@@ -21,7 +21,7 @@ from instances.io import instance_to_dict, plan_to_dict, result_from_dict
 from instances.model import Result
 
 from .isolate import REPO_ROOT, allow_solves, kill_live_solves, solve_isolated, stop_solves
-from .progress import StatusLine
+from .progress import StatusLine, Ticker
 from .results import ResultsFile, is_proven
 from .suites import SuiteEntry, instance_hash, shuffled
 from .text import number, percent, plural
@@ -163,7 +163,7 @@ class Progress:
         self.total, self.done, self.proven = total, 0, 0
         self.line = StatusLine(stream, enabled)
         self.start = time.monotonic()
-        self.line.show(self.head())
+        self.ticker = Ticker(self.line, self.head).start()
 
     def head(self) -> str:
         return f"bench: {self.done}/{self.total} done, {self.proven} proven, {time.monotonic() - self.start:.0f} s elapsed"
@@ -179,7 +179,7 @@ class Progress:
         self.line.show(self.head())
 
     def close(self) -> None:
-        self.line.close()
+        self.ticker.stop()
 
 
 def record_row(record: dict) -> str:

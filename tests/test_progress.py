@@ -88,3 +88,13 @@ def test_one_gap_unit_and_one_move_numbering():
 
 def test_plural():
     assert (plural(1, "violation"), plural(2, "violation"), plural(0, "box", "boxes")) == ("1 violation", "2 violations", "0 boxes")
+
+
+def test_bench_status_line_keeps_the_clock_moving_between_instances():
+    tty = FakeTerminal()
+    bar = Progress(3, stream=tty)
+    time.sleep(1.3)
+    drawn = tty.getvalue().count("bench: 0/3 done")
+    bar.close()
+    assert drawn >= 2  # redrawn by the ticker while no instance finished
+    assert last_screen_line(tty.getvalue()) == ""
