@@ -265,20 +265,30 @@ def lower_bound_l2(lengths: Sequence[int], capacity: int) -> int:
 
 
 class _OutOfBudget(Exception):
-    pass
+    """The bin-completion search ran out of nodes or time."""
 
 
 def complete_bins(lengths: Sequence[int], capacity: int, k: int, deadline: float,
                   node_limit: int = SEARCH_NODES) -> Optional[list[list[int]]]:
-    """A packing into at most `k` bins by depth-first bin completion, or None (none found in budget).
+    """A packing into at most `k` bins by depth-first bin completion, or None (none found in budget)."""
+    status, packed = bin_completion(lengths, capacity, k, deadline, node_limit)
+    return packed if status == "found" else None
 
-    Each bin is opened with the longest item left and filled with sets of the other sizes
-    (largest counts of larger sizes first); the waste of all bins together may not exceed
-    k * C - sum. Only a found packing is returned: a None proves nothing.
+
+def bin_completion(lengths: Sequence[int], capacity: int, k: int, deadline: float,
+                   node_limit: int = SEARCH_NODES) -> tuple[str, Optional[list[list[int]]]]:
+    """Exhaustive search for a packing into at most `k` bins: ("found", bins), ("none", None) when
+    the search ran to its end (a proof that k bins do not suffice), or ("budget", None).
+
+    Each bin is opened with the longest item left (some bin holds it in every packing) and filled
+    with every set of the other items that fits, fuller sets first; the waste of the bins together
+    may not exceed k * C - sum. A set of items left that failed with some slack fails with any
+    smaller one (fewer bins left, less waste allowed), so it is not searched again. Integer
+    arithmetic throughout: nothing here depends on a floating-point solver.
     """
     slack = k * capacity - sum(lengths)
     if slack < 0 or (lengths and max(lengths) > capacity):
-        return None
+        return "none", None
     sizes = sorted(set(lengths), reverse=True)
     descending = [-w for w in sizes]  # ascending keys for bisect: first size <= room
     left = [0] * len(sizes)
@@ -324,8 +334,10 @@ def complete_bins(lengths: Sequence[int], capacity: int, k: int, deadline: float
     try:
         packed = pack(k, slack)
     except _OutOfBudget:
-        return None
-    return None if packed is None else _assign(lengths, [[sizes[t] for t in b] for b in packed])
+        return "budget", None
+    if packed is None:
+        return "none", None
+    return "found", _assign(lengths, [[sizes[t] for t in b] for b in packed])
 
 
 def _assign(lengths: Sequence[int], bins_of_sizes: list[list[int]]) -> list[list[int]]:
@@ -526,3 +538,40 @@ def plans_1d(instance: Instance, problem: Problem, lower: float, deadline: float
     result = arc_flow(lengths, cap, target, upper, deadline)
     if result.bins is not None:
         yield to_plan(instance, data, result.bins)
+
+
+# ---------------------------------------------------------------- a proved bound (for the pipeline)
+
+
+def proved_lower_bound(instance: Instance, problem: Problem, deadline: float,
+                       node_limit: int = SEARCH_NODES) -> Optional[tuple[float, str]]:
+    """A lower bound on the bins of a recognised 1D instance, with its reason; None if not 1D.
+
+    Martello-Toth L2 always; above it only what an exhaustive bin completion proves: the arc flow
+    names the optimum K it finds (HiGHS, floating point), and the bound K stands only when the
+    integer search shows that K - 1 bins cannot hold the items (inf when the containers available
+    cannot). A wrong solver answer can cost the bound, never make it unsound. Sound because
+    recognition is exact: every feasible plan packs each container within the capacity.
+    """
+    data = recognise(instance, problem)
+    if data is None:
+        return None
+    lengths, cap, count = list(data.lengths), data.capacity, len(data.slots)
+    lower = lower_bound_l2(lengths, cap)
+    if lower > count:
+        return math.inf, f"1D bin packing: Martello-Toth L2 = {lower} bins, more than the {count} containers"
+    if time.perf_counter() >= deadline:
+        return float(lower), f"1D bin packing: Martello-Toth L2 = {lower} bins"
+    best = min(len(fit_decreasing(lengths, cap, b)) for b in (False, True))
+    claim = lower
+    if best > lower:
+        top = min(best, count + 1)  # the optimum, or count + 1 for "the containers cannot hold them"
+        flow = arc_flow(lengths, cap, lower, min(best - 1, count), deadline)  # anything better than the fit?
+        if flow.proved:
+            claim = top if flow.bins is None else len(flow.bins)
+    if claim > lower and bin_completion(lengths, cap, claim - 1, deadline, node_limit)[0] == "none":
+        if claim > count:
+            return math.inf, f"1D bin packing: {count} containers cannot hold the items (exhaustive bin completion)"
+        return float(claim), (f"1D bin packing: {claim} bins (arc flow, Valério de Carvalho 1999; "
+                              f"{claim - 1} bins refuted by exhaustive bin completion)")
+    return float(lower), f"1D bin packing: Martello-Toth L2 = {lower} bins"

@@ -111,6 +111,42 @@ def test_arc_flow_reports_too_few_containers_as_infeasible():
     assert flow.proved and flow.bins is None and math.isinf(flow.bound)
 
 
+def test_proved_bound_meets_cpsat_where_the_l2_bound_falls_short():
+    # random 1D instances with mid-sized items: some have an optimum above Martello-Toth L2 (the
+    # bounds package proves only L2 there); the proved bound must reach CP-SAT's optimum, never pass it
+    rng = random.Random(3)
+    short = 0
+    for _ in range(60):
+        n, capacity = rng.randint(8, 14), rng.randint(20, 60)
+        lengths = [rng.randint(capacity // 5, capacity * 2 // 3) for _ in range(n)]
+        best = cpsat_bins(lengths, capacity, n)
+        inst = one_d(lengths, capacity)
+        value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
+        assert value == best, (lengths, capacity, value, best, reason)
+        short += b1.lower_bound_l2(lengths, capacity) < best
+    assert short >= 2  # the comparison above covered cases L2 alone cannot prove
+
+
+def test_proved_bound_when_the_containers_are_too_few():
+    inst = one_d([6, 6, 6, 5, 5], 11, count=2)  # L2 alone: three items above half the capacity
+    value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
+    assert math.isinf(value) and "L2" in reason
+    # L2 = 4 here, the optimum is 5 (CP-SAT): with 4 containers only the exhaustive search can tell
+    lengths, capacity = [19, 17, 31, 10, 26, 27, 23, 11, 29, 13], 52
+    assert b1.lower_bound_l2(lengths, capacity) == 4 and cpsat_bins(lengths, capacity, 10) == 5
+    inst = one_d(lengths, capacity, count=4)
+    value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
+    assert math.isinf(value) and "cannot hold" in reason
+    assert b1.bin_completion(lengths, capacity, 4, time.perf_counter() + 5)[0] == "none"
+    status, packed = b1.bin_completion(lengths, capacity, 5, time.perf_counter() + 5)
+    assert status == "found" and all(sum(lengths[i] for i in b) <= capacity for b in packed)
+
+
+def test_proved_bound_is_silent_off_1d():
+    inst = rows2d([box("a", 4, 2), box("b", 3, 2)], 8, 4)
+    assert b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 5) is None
+
+
 # ---------------------------------------------------------------- exact under every rule (exhaustive oracle)
 
 
@@ -162,9 +198,11 @@ def test_recognised_instances_have_the_exhaustive_optimum(inst):
         return
     flow = b1.arc_flow(list(data.lengths), data.capacity, 0, len(data.slots), time.perf_counter() + 10)
     assert flow.proved
+    bound, _ = b1.proved_lower_bound(inst, p, time.perf_counter() + 10)
     if ex.status == "infeasible":
-        assert flow.bins is None
+        assert flow.bins is None and math.isinf(bound)
         return
+    assert bound == ex.objective  # never above the true optimum, and here always at it
     # the oracle's checker-accepted plan, read into the 1D model, fits it: the model is a relaxation
     bins_of: dict = {}
     for mv in ex.plan.moves:
