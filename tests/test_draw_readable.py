@@ -219,3 +219,34 @@ def test_3d_move_table_lists_every_move_in_order(iso20):
     boxes = unary_union([body(g) for g in groups(root, "box")])
     for t in rows:
         assert not text_rect(t).intersects(boxes)
+
+
+def test_page_titles_and_move_table_row_follow_the_slider(tmp_path):
+    """In headless Chromium: the page's title names the instance, objective and status; at move k
+    the move table marks row k and greys the later ones; a screenshot renders."""
+    from PIL import Image
+
+    from instances.draw import write_page
+    from tests.test_draw_page import CHROMIUM, browser, dom_at
+
+    if CHROMIUM is None:
+        pytest.skip("no chromium binary found")
+    inst = random_instance(3, 8, 3)
+    plan = drop_plan(inst)
+    report = check_plan(inst, plan)
+    result = Result(inst.name, "optimal", report.objective, report.objective, 0.0)
+    page = write_page(inst, plan, tmp_path / "p.html", result=result)
+    d = dom_at(page, 3)
+    title = [a for t, a in d.elements if t == "title"]
+    assert title
+    html_title = page.read_text(encoding="utf-8").split("<title>")[1].split("</title>")[0]
+    assert inst.name in html_title and f"= {report.objective:g}" in html_title and "solver status optimal" in html_title
+    rows = {a["data-row"]: a.get("class", "").split() for t, a in d.elements if t == "g" and "data-row" in a}
+    assert len(rows) == len(plan.moves)
+    assert "current" in rows["3"] and all("pending" in rows[str(k)] for k in range(4, len(plan.moves) + 1))
+    assert not any("pending" in rows[str(k)] or "current" in rows[str(k)] for k in (1, 2))
+    shot = tmp_path / "shot.png"
+    browser(page.resolve().as_uri() + "#step=3", f"--screenshot={shot}", "--window-size=1400,1000")
+    with Image.open(shot) as im:
+        assert im.size == (1400, 1000)
+        assert len(im.convert("L").resize((70, 50)).getcolors(maxcolors=4096) or ()) > 10  # not a blank page

@@ -19,7 +19,7 @@ from ..model import FACES, Instance, Plan, Result
 from ..precedence import face_blockers, lift_graph
 from .timeline import Replay, grip_text, replay
 from .svg import to_svg
-from .views import container_label, num
+from .views import container_label, num, title_lines
 
 
 def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "destination",
@@ -32,6 +32,7 @@ def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "
     data = json.dumps(page_data(rp), ensure_ascii=False, separators=(",", ":"))
     data = data.replace("&", "\\u0026").replace("<", "\\u003c").replace(">", "\\u003e")
     title = escape(instance.name or "instance")
+    headline = escape(" — ".join(title_lines(rp, result)))
     n = len(rp.steps)
     controls = ""
     if rp.plan is not None:
@@ -48,7 +49,7 @@ def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "
 <head>
 <meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
-<title>{title}</title>
+<title>{headline}</title>
 <style>{_CSS}</style>
 </head>
 <body>
@@ -168,6 +169,8 @@ h1 { font-size: 20px; margin: 0 0 4px 0; } h2 { font-size: 16px; }
 #graph table { border-collapse: collapse; font-size: 13px; }
 #graph td, #graph th { border: 1px solid #ccc; padding: 2px 6px; text-align: left; }
 svg .hidden { display: none; }
+svg g.move-row.current text { fill: #0046A0; font-weight: bold; }
+svg g.move-row.pending text { fill-opacity: 0.45; }
 svg g.box.current > polygon.body, svg g.box.current > polygon.face { stroke: #000; stroke-width: 3px; }
 svg g.box.next > polygon.body { stroke: #000; stroke-width: 2.5px; stroke-dasharray: 6 3; }
 """
@@ -182,6 +185,7 @@ _JS = r"""
   var shapes = Array.prototype.slice.call(svg.querySelectorAll("g[data-side]"));
   var edges = Array.prototype.slice.call(svg.querySelectorAll("g.edge"));
   var marks = Array.prototype.slice.call(svg.querySelectorAll("g.height-mark"));
+  var rows = Array.prototype.slice.call(svg.querySelectorAll("g.move-row"));
   function el(tag, text, cls) {
     var e = document.createElement(tag);
     if (text !== undefined) e.textContent = text;
@@ -209,6 +213,11 @@ _JS = r"""
     edges.forEach(function (g) {
       var gone = +g.getAttribute("data-gone");
       setShown(g, gone === 0 || gone > k);
+    });
+    rows.forEach(function (g) {
+      var r = +g.getAttribute("data-row");
+      g.classList.toggle("current", r === k);
+      g.classList.toggle("pending", r > k);
     });
     marks.forEach(function (g) {
       var dy = g.getAttribute("data-dy").split(" "), hs = g.getAttribute("data-h").split(" ");

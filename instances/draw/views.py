@@ -156,6 +156,9 @@ def cut(p: Panel, parts: int, margin: float) -> list[Panel]:
             k -= 1
         groups[k].append(c)
     kept = [k for k in range(parts) if groups[k]] or [0]
+    if len(kept) > 1 and max(c.top for c in groups[kept[-1]]) - cuts[kept[-1]] <= 0.5 * step:
+        groups[kept[-2]] += groups[kept[-1]]  # a last part with little in it joins the one below
+        kept.pop()
     out = []
     for n, k in enumerate(kept, 1):
         last = n == len(kept)
@@ -332,15 +335,26 @@ def flow(sizes: list[tuple[float, float]], left: float = 20.0, top: float = 20.0
     Returns the top-left corner of each panel and the width and height used.
     """
     x, y, row_h, width = left, top, 0.0, left
-    out = []
-    for w, h in sizes:
+    out: list[tuple[float, float]] = []
+    rows: list[list[int]] = [[]]
+    for n, (w, h) in enumerate(sizes):
         if x > left and x + w > MAX_ROW:
+            _floor(out, rows[-1], sizes, row_h)
             x, y, row_h = left, y + row_h + GAP, 0.0
+            rows.append([])
         out.append((x, y))
+        rows[-1].append(n)
         x += w + GAP
         row_h = max(row_h, h)
         width = max(width, x - GAP)
+    _floor(out, rows[-1], sizes, row_h)
     return out, width + left, y + row_h
+
+
+def _floor(corners: list[tuple[float, float]], row: list[int], sizes: list[tuple[float, float]], row_h: float) -> None:
+    """Lower the panels of one row so their floors line up (pictures read from the floor up)."""
+    for n in row:
+        corners[n] = (corners[n][0], corners[n][1] + row_h - sizes[n][1])
 
 
 @dataclass
@@ -614,12 +628,15 @@ def move_table(rp: Replay, x0: float, y0: float, max_height: float, max_width: f
         y = y0 + 6 + TABLE_ROW * 1.3
         for row, weight, cls in [(TABLE_HEAD, "bold", "table-head")] + [(r, "normal", "table-row") for r in rows[start:start + per_col]]:
             x = cx
+            cells: list[Item] = []
             for k, cell in enumerate(row):
                 if k == 0:
-                    items.append(Text(x + widths[0] - 10, y, cell, 11, anchor="end", weight="bold", cls=cls))
+                    cells.append(Text(x + widths[0] - 10, y, cell, 11, anchor="end", weight="bold", cls=cls))
                 else:
-                    items.append(Text(x, y, cell, 11, anchor="start", weight=weight, cls=cls))
+                    cells.append(Text(x, y, cell, 11, anchor="start", weight=weight, cls=cls))
                 x += widths[k]
+            # the page marks the current move's row and greys the moves still to come
+            items.append(Group(cells, {"class": "move-row", "data-row": row[0]}) if cls == "table-row" else Group(cells))
             y += TABLE_ROW
     columns = -(-len(rows) // per_col)
     used = min(len(rows), per_col) + 1
