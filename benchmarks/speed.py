@@ -105,7 +105,7 @@ def solve_cpsat(inst: Instance, time_limit: float) -> dict:
 
 
 def instances(args: argparse.Namespace) -> Iterator[tuple[int, int, Instance]]:
-    """(n, seed, instance) for the chosen family; published entries get seed -1."""
+    """(group, seed, instance): the group is n, or the set name for published entries (seed -1)."""
     sizes = [int(x) for x in args.sizes.split(",")] if args.sizes else None
     if args.family != "published":
         for n in sizes or [8, 10, 12, 14, 16]:
@@ -119,7 +119,7 @@ def instances(args: argparse.Namespace) -> Iterator[tuple[int, int, Instance]]:
         raise SystemExit("speed: no published folder found; pass --published DIR")
     for e in load_published(folder):
         if sizes is None or len(e.instance.boxes) in sizes:
-            yield len(e.instance.boxes), -1, e.instance
+            yield f"{e.set} ({e.problem})", -1, e.instance
 
 
 def contradictions(inst: Instance, runs: dict[str, dict]) -> list[str]:
@@ -142,16 +142,24 @@ def contradictions(inst: Instance, runs: dict[str, dict]) -> list[str]:
     return sorted(set(out))
 
 
+def _groups(rows: list[dict]) -> list:
+    return sorted({r["group"] for r in rows}, key=lambda g: (isinstance(g, str), g))
+
+
+def _column(rows: list[dict]) -> str:
+    return "set" if rows and isinstance(rows[0]["group"], str) else "n"
+
+
 def compare_table(rows: list[dict], solvers: list[str]) -> str:
-    """Markdown side by side per n: proved by each, median seconds on instances both proved, ratio."""
+    """Markdown side by side per group: proved by each, median seconds on instances both proved, ratio."""
     a, b = solvers[:2]
-    out = [f"| n | instances | proved {a} | proved {b} | both | median s {a} | median s {b} | ratio {a}/{b} |",
+    out = [f"| {_column(rows)} | instances | proved {a} | proved {b} | both | median s {a} | median s {b} | ratio {a}/{b} |",
            "|--:|--:|--:|--:|--:|--:|--:|--:|"]
     proved = ("optimal", "infeasible")
-    for n in sorted({r["n"] for r in rows}):
+    for n in _groups(rows):
         by = {}
         for r in rows:
-            if r["n"] == n:
+            if r["group"] == n:
                 by.setdefault(r["name"], {})[r["solver"]] = r
         pa = [k for k, v in by.items() if a in v and v[a]["status"] in proved]
         pb = [k for k, v in by.items() if b in v and v[b]["status"] in proved]
@@ -167,11 +175,11 @@ def compare_table(rows: list[dict], solvers: list[str]) -> str:
 
 
 def table(rows: list[dict], time_limit: float) -> str:
-    """Markdown: per n, how many proved (optimal or infeasible), median and max seconds, worst gap."""
-    out = ["| n | instances | proved | median s | max s | worst gap of the rest |",
+    """Markdown: per group, how many proved (optimal or infeasible), median and max seconds, worst gap."""
+    out = [f"| {_column(rows)} | instances | proved | median s | max s | worst gap of the rest |",
            "|---|---|---|---|---|---|"]
-    for n in sorted({r["n"] for r in rows}):
-        rs = [r for r in rows if r["n"] == n]
+    for n in _groups(rows):
+        rs = [r for r in rows if r["group"] == n]
         proved = [r for r in rs if r["status"] in ("optimal", "infeasible")]
         secs = [r["seconds"] if r in proved else time_limit for r in rs]
         gaps = [(r["objective"] - r["bound"]) / r["objective"] for r in rs
@@ -200,11 +208,11 @@ def main(argv: Optional[list[str]] = None) -> int:
     if unknown or not solvers or len(set(solvers)) != len(solvers):
         ap.error(f"--solver: expected stackproof and/or cpsat, got {args.solver!r}")
     rows, bad = [], []
-    for n, seed, inst in instances(args):
+    for group, seed, inst in instances(args):
         runs = {}
         for solver in solvers:
             row = {"family": args.family, "solver": solver, "mode": args.mode if solver == "stackproof" else None,
-                   "dim": inst.dim, "n": n, "seed": seed, "name": inst.name, **runners[solver](inst, args.time_limit)}
+                   "dim": inst.dim, "group": group, "n": len(inst.boxes), "seed": seed, "name": inst.name, **runners[solver](inst, args.time_limit)}
             runs[solver] = row
             rows.append(row)
             print(f"{inst.name} {solver}: {row['status']} obj={row['objective']} bound={row['bound']} "
