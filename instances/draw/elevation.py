@@ -17,7 +17,7 @@ from ..model import Result
 from .timeline import Replay, Step
 from .shapes import LINE, Group, Item, Line, Poly, Scene, Text, fit_label, rect
 from .views import (HEADER, Colours, Content, Labels, Notes, Panel, base_panels, box_attrs, box_title, choose_scale,
-                    colours, edge_group, flow, heading, height_mark_attrs, layout, legend, lift_arrows, num,
+                    colours, edge_group, flow, ghost_attrs, heading, height_mark_attrs, layout, legend, lift_arrows, num,
                     panel_width, side_arrows, smallest_side, title_lines, vertical_stretch)
 
 
@@ -110,7 +110,7 @@ def _ghost(frame: Frame, c: Content) -> Group:
     """The part of a box drawn in another part of this container, faint and unlabelled."""
     left, top, w, h = frame.box(c.at, c.ext)
     return Group([rect(left, top, w, h, fill=palette.GHOST, stroke=palette.GHOST_EDGE, width=0.8, dash="2 2", cls="ghost")],
-                 {"class": "ghost", "data-box": c.box})
+                 ghost_attrs(c))
 
 
 def _box(rp: Replay, col: Colours, frame: Frame, c: Content) -> tuple[Group, Group]:

@@ -18,7 +18,7 @@ from ..model import Result
 from .timeline import Replay
 from .shapes import LINE, SMALLEST, Group, Item, Line, Poly, Scene, Text, text_width
 from .views import (GAP, HEADER, MAX_ROW, TITLE, Colours, Content, Labels, Notes, Panel, base_panels, box_attrs,
-                    box_title, colours, edge_group, flow, heading, height_mark_attrs, layout, legend, lift_arrows,
+                    box_title, colours, edge_group, flow, ghost_attrs, heading, height_mark_attrs, layout, legend, lift_arrows,
                     move_table, num, panel_width, side_arrows, smallest_side, title_lines)
 
 VIEW = (1.0, -1.0, 1.0)  # towards the viewer
@@ -141,7 +141,7 @@ def scene(rp: Replay, color_by: str = "destination", result: Optional[Result] = 
         for rank, k in enumerate(order):
             c, ghost = drawn[k]
             if ghost:
-                items.append(_ghost(frame, *boxes[k], c.box))
+                items.append(_ghost(frame, *boxes[k], c))
                 continue
             nearer = [_to_px(frame, h) for h in hulls[rank + 1:]]
             body, label = _box(rp, col, frame, c, boxes[k][0], boxes[k][1], nearer)
@@ -219,11 +219,11 @@ def _faces(frame: Frame, lo: Vec3, hi: Vec3):
     return top, front, right
 
 
-def _ghost(frame: Frame, lo: Vec3, hi: Vec3, box_id: str) -> Group:
+def _ghost(frame: Frame, lo: Vec3, hi: Vec3, c: Content) -> Group:
     """The part of a box drawn in another part of this container: faint faces, no label."""
     top, front, right = _faces(frame, lo, hi)
     polys: list[Item] = [Poly(f, fill=palette.GHOST, stroke=palette.GHOST_EDGE, width=0.7, dash="2 2", cls="ghost") for f in (front, right, top)]
-    return Group(polys, {"class": "ghost", "data-box": box_id})
+    return Group(polys, ghost_attrs(c))
 
 
 def _box(rp: Replay, col: Colours, frame: Frame, c: Content, lo: Vec3, hi: Vec3, nearer: list) -> tuple[Group, Group]:

@@ -484,6 +484,11 @@ def box_attrs(rp: Replay, box_id: str, side: str, step) -> dict[str, str]:
     return attrs
 
 
+def ghost_attrs(c: Content) -> dict[str, str]:
+    """A ghost shows and hides with its box on the page (same side and move as the box)."""
+    return {"class": "ghost", "data-box": c.box, "data-side": c.side, "data-step": str(c.step.number if c.step else 0)}
+
+
 def edge_group(rp: Replay, j: str, i: str, kind: str, line: Line) -> Group:
     """A precedence edge j -> i; `data-gone` is the move after which it no longer binds."""
     steps = [rp.step_of[b] for b in (j, i) if b in rp.step_of]
