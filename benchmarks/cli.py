@@ -13,6 +13,7 @@ import sys
 from typing import Optional, Sequence
 
 from instances.errors import InputError
+from instances.io import os_error_text
 
 EXIT_BAD_INPUT = 2
 EXIT_INTERRUPTED = 130
@@ -67,7 +68,7 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
         return EXIT_INTERRUPTED
     except OSError as exc:  # a write that failed after the up-front checks (disk full, a race)
         where = exc.filename if exc.filename is not None else "output"
-        print(f"stackproof {args.command}: {where}: {(exc.strerror or str(exc)).lower()}", file=sys.stderr)
+        print(f"stackproof {args.command}: {where}: {os_error_text(exc)}", file=sys.stderr)
         return EXIT_BAD_INPUT
 
 

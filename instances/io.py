@@ -451,7 +451,7 @@ def check_output(path: PathLike, option: str, *, folder: bool = False, append: b
             with open(target, "ab"):
                 pass
         except OSError as exc:
-            fail(f"cannot be appended to ({_reason(exc)})")
+            fail(f"cannot be appended to ({os_error_text(exc)})")
         return target
     place = target if folder else target.parent
     nearest = place
@@ -465,11 +465,11 @@ def check_output(path: PathLike, option: str, *, folder: bool = False, append: b
         os.unlink(probe)
     except OSError as exc:
         if nearest == place:
-            fail(f"cannot write in folder {place} ({_reason(exc)})")
-        fail(f"folder {place} is missing and cannot be created in {nearest} ({_reason(exc)})")
+            fail(f"cannot write in folder {place} ({os_error_text(exc)})")
+        fail(f"folder {place} is missing and cannot be created in {nearest} ({os_error_text(exc)})")
     return target
 
 
-def _reason(exc: OSError) -> str:
+def os_error_text(exc: OSError) -> str:
     """An OS error in plain lower-case words (`read-only file system`), without the Python repr."""
     return (exc.strerror or type(exc).__name__).lower()

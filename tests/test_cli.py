@@ -91,11 +91,17 @@ def test_every_subcommand_has_help():
         assert out.returncode == 0 and "usage:" in out.stdout, module.NAME
 
 
-def test_check_of_a_result_confirms_its_claims(files, tmp_path):
+def write_result(path, plan, value):
+    """An `optimal` result document claiming `value` for `plan` (of the FORMATS.md worked example)."""
     result = {"format": "stackproof/result", "version": 1, "instance": "dock-7-morning", "status": "optimal",
-              "objective": 4, "bound": 4, "gap": 0.0, "plan": FORMATS_PLAN, "checked": True}
+              "objective": value, "bound": value, "gap": 0.0, "plan": plan, "checked": True}
+    path.write_text(json.dumps(result))
+    return result
+
+
+def test_check_of_a_result_confirms_its_claims(files, tmp_path):
     r = tmp_path / "result.json"
-    r.write_text(json.dumps(result))
+    result = write_result(r, FORMATS_PLAN, 4)
     out = run("check", files[0], r)
     assert out.returncode == 1 and "claims objective 4, the plan scores 5" in out.stdout
     result["objective"] = result["bound"] = 5
@@ -118,9 +124,7 @@ def test_check_of_a_plan_or_result_for_another_instance_says_so_first(files, tmp
     assert out.returncode == 2 and out.stdout == ""  # nothing replayed
     assert out.stderr.strip() == (f"stackproof check: {p}: instance: this plan is for another instance: it names "
                                   f"\"dock-8-evening\", but {files[0]} holds \"dock-7-morning\"")
-    result = {"format": "stackproof/result", "version": 1, "instance": "dock-7-morning", "status": "optimal",
-              "objective": 5, "bound": 5, "gap": 0.0, "plan": other, "checked": True}
     r = tmp_path / "result.json"
-    r.write_text(json.dumps(result))
+    write_result(r, other, 5)
     out = run("check", files[0], r)
     assert out.returncode == 2 and "plan.instance: this result is for another instance" in out.stderr

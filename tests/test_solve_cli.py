@@ -65,9 +65,9 @@ def test_bad_instance_exits_2_and_writes_nothing(tmp_path, capsys):
 
 
 @pytest.mark.parametrize("args, word", [
-    (["--backend", "glpk"], "backend"),
-    (["--time-limit", "-1"], "time_limit"),
-    (["--export-model", "m.txt"], "export_model"),
+    (["--backend", "glpk"], "command line: --backend: must be one of"),
+    (["--time-limit", "-1"], "command line: --time-limit: must be a positive"),
+    (["--export-model", "m.txt"], "command line: --export-model: file name must end in .lp or .mps"),
 ])
 def test_bad_options_exit_2(formats_file, tmp_path, capsys, args, word):
     out = tmp_path / "r.json"

@@ -7,13 +7,13 @@ import json
 import os
 import subprocess
 import sys
-import tempfile
 from pathlib import Path
 
 import pytest
 
 from benchmarks.cli import _command_modules
 from instances.demo import demo_instance_path, demo_plan_path
+from tests.test_io import readonly_place
 
 REPO = Path(__file__).resolve().parents[1]
 DEMO, PLAN = demo_instance_path(), demo_plan_path()
@@ -38,22 +38,6 @@ def one_line_error(out, option: str, path) -> str:
     assert len(lines) == 1, out.stderr
     assert option in lines[0] and str(path) in lines[0], lines[0]
     return lines[0]
-
-
-def readonly_place(tmp_path: Path) -> Path:
-    """A folder nobody can create files in: chmod 0555, or /proc when running as root."""
-    ro = tmp_path / "ro"
-    ro.mkdir()
-    ro.chmod(0o555)
-    try:
-        fd, probe = tempfile.mkstemp(dir=ro)
-    except OSError:
-        return ro
-    os.close(fd)
-    os.unlink(probe)
-    if Path("/proc/self").is_dir():
-        return Path("/proc")
-    pytest.skip("no read-only place to test with")
 
 
 @pytest.fixture(scope="module")

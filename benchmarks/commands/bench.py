@@ -74,10 +74,10 @@ def _check_outputs(args: argparse.Namespace) -> None:
 def _check_solver(args: argparse.Namespace, entries) -> None:
     """Fail fast (exit 2) on a solver that cannot be loaded or options the MILP cannot honour."""
     if args.solver == DEFAULT_SOLVER:
-        from milp import validate_options
+        from .solve import check_options
 
         for e in entries:
-            validate_options(e.instance, args.time_limit, args.backend, args.threads, args.seed, None)
+            check_options(e.instance, args)
     elif args.scheduler is None:  # on a cluster the workers' environment may differ from this one
         from ..isolate import solver_load_error
 

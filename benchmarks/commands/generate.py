@@ -8,7 +8,6 @@ uses seed S + k. The same arguments give byte-identical files (no clocks, no hos
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 from typing import Any
 
 from instances.errors import InputError

@@ -14,7 +14,7 @@ import sys
 from pathlib import Path
 
 from instances.errors import InputError
-from instances.io import check_output, dumps, read_instance, result_to_dict, write_json
+from instances.io import check_output, dumps, os_error_text, read_instance, result_to_dict, write_json
 
 from ..progress import SolveProgress, StatusLine
 from ..text import number, percent
@@ -54,6 +54,20 @@ def summary(result) -> str:
     return " ".join(parts)
 
 
+OPTIONS = {"time_limit": "--time-limit", "backend": "--backend", "threads": "--threads", "seed": "--seed",
+           "export_model": "--export-model"}
+
+
+def check_options(instance, args: argparse.Namespace) -> None:
+    """The solver's own option checks (`milp.validate_options`), reported under the command-line names."""
+    from milp import validate_options
+
+    try:
+        validate_options(instance, args.time_limit, args.backend, args.threads, args.seed, getattr(args, "export_model", None))
+    except InputError as exc:
+        raise InputError("command line", [(OPTIONS.get(where, where), message) for where, message in exc.problems]) from None
+
+
 def run(args: argparse.Namespace) -> int:
     from milp import solve
 
@@ -70,22 +84,24 @@ def run(args: argparse.Namespace) -> int:
         check_output(args.output, "-o")
     if args.export_model:
         check_output(args.export_model, "--export-model")
+    check_options(instance, args)
+    if args.export_model:
         Path(args.export_model).parent.mkdir(parents=True, exist_ok=True)  # as -o does; the model writer needs it
     line = StatusLine(enabled=not (args.quiet or args.log))
     with SolveProgress(line) as progress:
         result = solve(instance, time_limit=args.time_limit, backend=args.backend, threads=args.threads,
                        seed=args.seed, log=args.log, export_model=args.export_model,
                        progress=progress if line.on else None)
-    text = dumps(result_to_dict(result))
+    doc = result_to_dict(result)
     if args.output:
         try:
-            write_json(args.output, result_to_dict(result))
+            write_json(args.output, doc)
         except OSError as exc:  # the folder changed during the solve: keep the result on stdout
-            sys.stdout.write(text)
-            raise InputError(args.output, [("-o", f"could not be written ({(exc.strerror or str(exc)).lower()}); "
+            sys.stdout.write(dumps(doc))
+            raise InputError(args.output, [("-o", f"could not be written ({os_error_text(exc)}); "
                                                   "the result document was printed to stdout instead")]) from None
         print(summary(result))
     else:
-        sys.stdout.write(text)
+        sys.stdout.write(dumps(doc))
         print(summary(result), file=sys.stderr)
     return EXIT.get(result.status, 1)
