@@ -40,6 +40,7 @@ MAX_SCALE_DIGITS = 4  # sizes with up to 4 decimals are scaled to integers; fine
 SEARCH_SHARE = 0.25  # share of the time left given to the bin-completion search before the arc flow
 SEARCH_NODES = 1_000_000  # node limit of the bin-completion search (about a second)
 MAX_ARCS = 400_000  # larger arc-flow graphs are not built (about a second of Python to build this many)
+WEIGHT_SCALE = 1_000_000  # LP duals are rounded down to multiples of 1/WEIGHT_SCALE for the exact bound
 
 
 @dataclass(frozen=True)
@@ -420,23 +421,31 @@ def compress(arcs: list[tuple[int, int, int]], sizes: Sequence[int],
     return sorted(set(early.values())), merged
 
 
-def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, deadline: float) -> ArcFlowResult:
-    """Minimise the bins of the arc-flow model (at most `upper`, at least the proved `lower`).
+@dataclass
+class _ArcModel:
+    """The arc-flow model as HiGHS data: arcs (tail, head, size index; -1 for loss), rows in order
+    flow conservation, demand per size, number of bins."""
 
-    A graph past MAX_ARCS is not built: the result then has no bins and proves nothing.
-    """
+    lp: object
+    arcs: list[tuple[int, int, int]]
+    sizes: list[int]
+    source: int
+    sink: int
+    demand_rows: slice
+    points: int
+
+
+def _arc_model(lengths: Sequence[int], capacity: int, lower: int, upper: int, integral: bool) -> Optional[_ArcModel]:
+    """Build the model (None when the graph passes MAX_ARCS): minimise the flow out of the source."""
     import highspy
-
-    from bounds.contiguous import _quiet_highs
+    from scipy.sparse import coo_matrix
 
     demand = Counter(lengths)
     sizes = sorted(demand, reverse=True)
     graph = arc_graph(lengths, capacity)
     if graph is None:
-        return ArcFlowResult(None, float(lower), False, MAX_ARCS, 0)
+        return None
     nodes, arcs = graph
-    if time.perf_counter() >= deadline:
-        return ArcFlowResult(None, float(lower), False, len(arcs), len(nodes))
     source, sink = nodes[0], nodes[-1]
     row_of = {v: r for r, v in enumerate(v for v in nodes if v not in (source, sink))}
     n_flow = len(row_of)
@@ -455,26 +464,46 @@ def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, dead
             rows.append(n_flow + t), cols.append(k), vals.append(1.0)
         if u == source:
             rows.append(n_flow + len(sizes)), cols.append(k), vals.append(1.0)
-    from scipy.sparse import coo_matrix
-
     n_rows = n_flow + len(sizes) + 1
     A = coo_matrix((vals, (rows, cols)), shape=(n_rows, m)).tocsc()
-    row_lo = np.concatenate([np.zeros(n_flow), [float(demand[w]) for w in sizes], [float(lower)]])
-    row_hi = np.concatenate([np.zeros(n_flow), [float(demand[w]) for w in sizes], [float(upper)]])
-    cost = np.array([1.0 if u == source else 0.0 for u, _, _ in arcs])
+    need = [float(demand[w]) for w in sizes]
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = m, n_rows
+    lp.col_cost_ = np.array([1.0 if u == source else 0.0 for u, _, _ in arcs])
+    lp.col_lower_, lp.col_upper_ = np.zeros(m), np.full(m, float(upper))
+    lp.row_lower_ = np.concatenate([np.zeros(n_flow), need, [float(lower)]])
+    lp.row_upper_ = np.concatenate([np.zeros(n_flow), need, [float(upper)]])
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
+    lp.a_matrix_.start_, lp.a_matrix_.index_, lp.a_matrix_.value_ = A.indptr, A.indices, A.data
+    if integral:
+        lp.integrality_ = [highspy.HighsVarType.kInteger] * m
+    return _ArcModel(lp, arcs, sizes, source, sink, slice(n_flow, n_flow + len(sizes)), len(nodes))
+
+
+def _run(model: _ArcModel, deadline: float):
+    """Solve quietly on one thread within the deadline; the Highs object, for its answers."""
+    from bounds.contiguous import _quiet_highs
+
     h = _quiet_highs()
     h.setOptionValue("time_limit", max(0.05, deadline - time.perf_counter()))
     h.setOptionValue("threads", 1)
     h.setOptionValue("mip_rel_gap", 0.0)
-    lp = highspy.HighsLp()
-    lp.num_col_, lp.num_row_ = m, n_rows
-    lp.col_cost_, lp.col_lower_, lp.col_upper_ = cost, np.zeros(m), np.full(m, float(upper))
-    lp.row_lower_, lp.row_upper_ = row_lo, row_hi
-    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
-    lp.a_matrix_.start_, lp.a_matrix_.index_, lp.a_matrix_.value_ = A.indptr, A.indices, A.data
-    lp.integrality_ = [highspy.HighsVarType.kInteger] * m
-    h.passModel(lp)
+    h.passModel(model.lp)
     h.run()
+    return h
+
+
+def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, deadline: float) -> ArcFlowResult:
+    """Minimise the bins of the arc-flow model (at most `upper`, at least the proved `lower`).
+
+    A graph past MAX_ARCS is not built: the result then has no bins and proves nothing.
+    """
+    import highspy
+
+    model = _arc_model(lengths, capacity, lower, upper, integral=True)
+    if model is None or time.perf_counter() >= deadline:
+        return ArcFlowResult(None, float(lower), False, 0 if model is None else len(model.arcs), 0)
+    h = _run(model, deadline)
     status = h.getModelStatus()
     info = h.getInfo()
     proved = status in (highspy.HighsModelStatus.kOptimal, highspy.HighsModelStatus.kInfeasible)
@@ -482,8 +511,48 @@ def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, dead
     bins = None
     if info.primal_solution_status == highspy.SolutionStatus.kSolutionStatusFeasible:
         flow = np.rint(np.asarray(h.getSolution().col_value)).astype(int)
-        bins = _assign(lengths, _decompose(arcs, flow, sizes, source, sink))
-    return ArcFlowResult(bins, bound, proved, m, len(nodes))
+        bins = _assign(lengths, _decompose(model.arcs, flow, model.sizes, model.source, model.sink))
+    return ArcFlowResult(bins, bound, proved, len(model.arcs), model.points)
+
+
+def lp_weight_bound(lengths: Sequence[int], capacity: int, deadline: float) -> Optional[int]:
+    """The arc-flow LP bound, made exact: item weights from the LP's demand duals, then
+    ceil(total weight / heaviest bin) in integer arithmetic; None without an LP answer.
+
+    Any weights p >= 0 give a valid bound, because a bin of K bins holds weight at most
+    V = max { sum of p over a set of items that fits } (a 0/1 knapsack, solved exactly by dynamic
+    programming over the integer capacity), so K >= sum(p) / V. The duals of the LP (Valério de
+    Carvalho 1999; equal to the Gilmore-Gomory bound) only choose the weights, so a floating-point
+    error can weaken the bound, never make it wrong.
+    """
+    import highspy
+
+    model = _arc_model(lengths, capacity, 0, len(lengths), integral=False)
+    if model is None or time.perf_counter() >= deadline:
+        return None
+    h = _run(model, deadline)
+    if h.getModelStatus() != highspy.HighsModelStatus.kOptimal:
+        return None
+    duals = np.asarray(h.getSolution().row_dual)[model.demand_rows]
+    found = []
+    for sign in (1.0, -1.0):  # whichever sign convention the solver uses: both weightings are valid
+        weight = {w: int(math.floor(min(1.0, max(0.0, sign * d)) * WEIGHT_SCALE)) for w, d in zip(model.sizes, duals)}
+        found.append(weight_bound(lengths, capacity, weight))
+    return max((b for b in found if b is not None), default=None)
+
+
+def weight_bound(lengths: Sequence[int], capacity: int, weight: dict[int, int]) -> Optional[int]:
+    """ceil(sum of the items' integer weights / the heaviest set that fits one bin); None if all weigh 0."""
+    best = np.zeros(capacity + 1, dtype=np.int64)  # best[c]: heaviest set of the items so far within c
+    for w in lengths:
+        p = weight.get(w, 0)
+        if p > 0 and w <= capacity:
+            best[w:] = np.maximum(best[w:], best[: capacity + 1 - w] + p)
+    heaviest = int(best[-1])
+    if heaviest <= 0:
+        return None
+    total = sum(weight.get(w, 0) for w in lengths)
+    return -(-total // heaviest)
 
 
 def _decompose(arcs: list[tuple[int, int, int]], flow: np.ndarray, sizes: list[int], source: int,
@@ -547,24 +616,26 @@ def proved_lower_bound(instance: Instance, problem: Problem, deadline: float,
                        node_limit: int = SEARCH_NODES) -> Optional[tuple[float, str]]:
     """A lower bound on the bins of a recognised 1D instance, with its reason; None if not 1D.
 
-    Martello-Toth L2 always; above it only what an exhaustive bin completion proves: the arc flow
-    names the optimum K it finds (HiGHS, floating point), and the bound K stands only when the
-    integer search shows that K - 1 bins cannot hold the items (inf when the containers available
-    cannot). A wrong solver answer can cost the bound, never make it unsound. Sound because
-    recognition is exact: every feasible plan packs each container within the capacity.
+    The largest of: Martello-Toth L2; the arc-flow LP bound made exact (`lp_weight_bound`); and
+    the optimum K the arc-flow MILP names (HiGHS, floating point), which stands only when the
+    integer bin completion shows that K - 1 bins cannot hold the items (inf when the containers
+    available cannot). A wrong solver answer can cost the bound, never make it unsound. Sound
+    because recognition is exact: every feasible plan packs each container within the capacity.
     """
     data = recognise(instance, problem)
     if data is None:
         return None
     lengths, cap, count = list(data.lengths), data.capacity, len(data.slots)
-    lower = lower_bound_l2(lengths, cap)
-    if lower > count:
-        return math.inf, f"1D bin packing: Martello-Toth L2 = {lower} bins, more than the {count} containers"
-    if time.perf_counter() >= deadline:
-        return float(lower), f"1D bin packing: Martello-Toth L2 = {lower} bins"
+    lower, reason = lower_bound_l2(lengths, cap), "Martello-Toth L2"
     best = min(len(fit_decreasing(lengths, cap, b)) for b in (False, True))
+    if best > lower and lower <= count and time.perf_counter() < deadline:
+        lp = lp_weight_bound(lengths, cap, deadline)
+        if lp is not None and lp > lower:
+            lower, reason = lp, "arc-flow LP with exact integer weights"
+    if lower > count:
+        return math.inf, f"1D bin packing: {reason} = {lower} bins, more than the {count} containers"
     claim = lower
-    if best > lower:
+    if best > lower and time.perf_counter() < deadline:
         top = min(best, count + 1)  # the optimum, or count + 1 for "the containers cannot hold them"
         flow = arc_flow(lengths, cap, lower, min(best - 1, count), deadline)  # anything better than the fit?
         if flow.proved:
@@ -574,4 +645,4 @@ def proved_lower_bound(instance: Instance, problem: Problem, deadline: float,
             return math.inf, f"1D bin packing: {count} containers cannot hold the items (exhaustive bin completion)"
         return float(claim), (f"1D bin packing: {claim} bins (arc flow, Valério de Carvalho 1999; "
                               f"{claim - 1} bins refuted by exhaustive bin completion)")
-    return float(lower), f"1D bin packing: Martello-Toth L2 = {lower} bins"
+    return float(lower), f"1D bin packing: {reason} = {lower} bins"

@@ -111,9 +111,13 @@ def test_arc_flow_reports_too_few_containers_as_infeasible():
     assert flow.proved and flow.bins is None and math.isinf(flow.bound)
 
 
-def test_proved_bound_meets_cpsat_where_the_l2_bound_falls_short():
+@pytest.mark.parametrize("with_lp", [True, False])
+def test_proved_bound_meets_cpsat_where_the_l2_bound_falls_short(with_lp, monkeypatch):
     # random 1D instances with mid-sized items: some have an optimum above Martello-Toth L2 (the
-    # bounds package proves only L2 there); the proved bound must reach CP-SAT's optimum, never pass it
+    # bounds package proves only L2 there); the proved bound must reach CP-SAT's optimum, never pass
+    # it. Without the LP bound, the arc-flow optimum must be confirmed by the bin completion alone.
+    if not with_lp:
+        monkeypatch.setattr(b1, "lp_weight_bound", lambda *args: None)
     rng = random.Random(3)
     short = 0
     for _ in range(60):
@@ -123,11 +127,35 @@ def test_proved_bound_meets_cpsat_where_the_l2_bound_falls_short():
         inst = one_d(lengths, capacity)
         value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
         assert value == best, (lengths, capacity, value, best, reason)
-        short += b1.lower_bound_l2(lengths, capacity) < best
+        if b1.lower_bound_l2(lengths, capacity) < best:
+            short += 1
+            assert ("LP" in reason) == with_lp and ("bin completion" in reason) != with_lp, reason
     assert short >= 2  # the comparison above covered cases L2 alone cannot prove
 
 
-def test_proved_bound_when_the_containers_are_too_few():
+@settings(max_examples=40, deadline=None)
+@given(st.integers(5, 30).flatmap(lambda c: st.tuples(
+    st.just(c), st.lists(st.integers(1, c), min_size=1, max_size=9), st.lists(st.integers(0, 50), min_size=c, max_size=c))))
+def test_any_item_weights_give_a_valid_bound(case):
+    # the exact LP certificate rests on this: for weights p >= 0, sum(p) / (heaviest bin) <= bins
+    capacity, lengths, table = case
+    weight = {w: table[w - 1] for w in set(lengths)}
+    value = b1.weight_bound(lengths, capacity, weight)
+    assert value is None or value <= cpsat_bins(lengths, capacity, len(lengths))
+
+
+def test_lp_weight_bound_is_the_lp_bound_rounded_up():
+    # Falkenauer (1996) t60_00: sizes add to exactly 20 bins, so the LP bound is 20 (optimum 20 per
+    # the manifest); on random instances the LP bound lies between L2... and the CP-SAT optimum
+    rng = random.Random(11)
+    for _ in range(15):
+        n, capacity = rng.randint(6, 14), rng.randint(20, 60)
+        lengths = [rng.randint(capacity // 5, capacity * 2 // 3) for _ in range(n)]
+        lp = b1.lp_weight_bound(lengths, capacity, time.perf_counter() + 10)
+        assert math.ceil(sum(lengths) / capacity) <= lp <= cpsat_bins(lengths, capacity, n)
+
+
+def test_proved_bound_when_the_containers_are_too_few(monkeypatch):
     inst = one_d([6, 6, 6, 5, 5], 11, count=2)  # L2 alone: three items above half the capacity
     value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
     assert math.isinf(value) and "L2" in reason
@@ -135,6 +163,9 @@ def test_proved_bound_when_the_containers_are_too_few():
     lengths, capacity = [19, 17, 31, 10, 26, 27, 23, 11, 29, 13], 52
     assert b1.lower_bound_l2(lengths, capacity) == 4 and cpsat_bins(lengths, capacity, 10) == 5
     inst = one_d(lengths, capacity, count=4)
+    value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
+    assert math.isinf(value) and "4 containers" in reason
+    monkeypatch.setattr(b1, "lp_weight_bound", lambda *args: None)  # now only the search can tell
     value, reason = b1.proved_lower_bound(inst, prepare(inst), time.perf_counter() + 10)
     assert math.isinf(value) and "cannot hold" in reason
     assert b1.bin_completion(lengths, capacity, 4, time.perf_counter() + 5)[0] == "none"
