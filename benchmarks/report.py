@@ -73,6 +73,11 @@ def _fmt(x: Optional[float], spec: str = ".3g") -> str:
     return "-" if x is None else format(x, spec)
 
 
+def _pct(gap: Optional[float]) -> str:
+    """A gap (a fraction in the records and CSV files) as people read it: percent, two decimals."""
+    return "-" if gap is None else f"{100 * gap:.2f}%"
+
+
 # ---------------------------------------------------------------- summary.md and results.csv
 
 
@@ -102,7 +107,7 @@ def summary_markdown(records: Sequence[dict]) -> str:
 
 def _row(name: str, s: dict) -> str:
     return (f"| {name} | {s['instances']} | {s['proven']} | {s['with_plan']} | {s['contradictions']} | {s['unchecked']} | "
-            f"{s['errors']} | {_fmt(s['median_seconds'], '.2f')} | {_fmt(s['mean_gap'], '.4f')} |")
+            f"{s['errors']} | {_fmt(s['median_seconds'], '.2f')} | {_pct(s['mean_gap'])} |")
 
 
 def results_csv(records: Sequence[dict]) -> str:
@@ -147,10 +152,14 @@ def plain_log_axis(axis) -> None:
     """Label a log axis with plain numbers (1, 2, 5, 10, 20, ...) instead of powers of ten."""
     from matplotlib.ticker import FuncFormatter, LogLocator
 
+    def minor(value: float, _pos=None) -> str:  # 2, 3, 5 between powers of ten, when they fit
+        lo, hi = sorted(axis.get_view_interval())
+        return _plain(value) if lo > 0 and hi / lo <= 100 else ""
+
     axis.set_major_locator(LogLocator(base=10))
     axis.set_major_formatter(FuncFormatter(_plain))
-    axis.set_minor_locator(LogLocator(base=10, subs=(2.0, 5.0)))
-    axis.set_minor_formatter(FuncFormatter(_plain))
+    axis.set_minor_locator(LogLocator(base=10, subs=(2.0, 3.0, 5.0)))
+    axis.set_minor_formatter(FuncFormatter(minor))
 
 
 def plain_linear_axis(axis, integer: bool = False) -> None:
@@ -189,12 +198,12 @@ def plot_time_vs_n(records: Sequence[dict]) -> str:
 
 
 def gap_histogram(samples: Sequence[tuple[str, list[float]]], xlabel: str, bins: int = 20):
-    """Histogram of gaps per label; the count axis has whole-number ticks only."""
+    """Histogram of gaps (fractions, drawn in percent) per label; whole-number count ticks only."""
     fig, ax = _figure()
-    samples = [(label, g) for label, g in samples if g]
+    samples = [(label, [100 * x for x in g]) for label, g in samples if g]
     if samples:
         low = min(0.0, min(min(g) for _, g in samples))
-        top = max(low + 0.05, max(max(g) for _, g in samples))
+        top = max(low + 5.0, max(max(g) for _, g in samples))
         ax.hist([g for _, g in samples], bins=bins, range=(low, top), label=[label for label, _ in samples])
         ax.legend(fontsize=7)
     ax.set_xlabel(xlabel)
@@ -208,7 +217,7 @@ def gap_histogram(samples: Sequence[tuple[str, list[float]]], xlabel: str, bins:
 def plot_gaps(records: Sequence[dict]) -> str:
     samples = [(config, [r["gap"] for per in sets.values() for r in per if r.get("gap") is not None])
                for config, sets in sorted(grouped(records).items())]
-    return _png(gap_histogram(samples, "relative gap (objective - bound) / objective"))
+    return _png(gap_histogram(samples, "relative gap (objective - bound) / objective, %"))
 
 
 def profile_costs(records: Sequence[dict]) -> dict[str, dict[str, Optional[float]]]:
@@ -289,7 +298,7 @@ def report_html(records: Sequence[dict], links: Mapping[str, str], title: str = 
         for set_name in sorted(sets):
             s = set_summary(sets[set_name])
             parts.append(f"<tr><td class=l>{e(set_name)}</td><td>{s['instances']}</td><td>{s['proven']}</td><td>{s['contradictions']}</td>"
-                         f"<td>{s['unchecked']}</td><td>{s['errors']}</td><td>{_fmt(s['median_seconds'], '.2f')}</td><td>{_fmt(s['mean_gap'], '.4f')}</td></tr>")
+                         f"<td>{s['unchecked']}</td><td>{s['errors']}</td><td>{_fmt(s['median_seconds'], '.2f')}</td><td>{_pct(s['mean_gap'])}</td></tr>")
         parts.append("</table>")
     parts.append("<h2>Time against size</h2>")
     parts.append(f"<img alt='time against number of boxes' src='data:image/png;base64,{plot_time_vs_n(records)}'>")
@@ -309,7 +318,7 @@ def report_html(records: Sequence[dict], links: Mapping[str, str], title: str = 
         cls = " class=bad" if is_failure(r) else ""
         parts.append(f"<tr{cls}><td class=l>{e(r['key'])}</td><td class=l>{e(config_of(r))}</td><td>{r['n']}</td><td class=l>{e(r['status'])}</td>"
                      f"<td>{_fmt(r.get('objective'), 'g')}</td><td>{_fmt(r.get('bound'), 'g')}</td><td>{_fmt(known, 'g')}</td>"
-                     f"<td>{_fmt(r.get('gap'), '.4f')}</td><td>{_fmt(r.get('seconds'), '.2f')}</td><td class=l>{plan}</td><td class=l>{e(remarks)}</td></tr>")
+                     f"<td>{_pct(r.get('gap'))}</td><td>{_fmt(r.get('seconds'), '.2f')}</td><td class=l>{plan}</td><td class=l>{e(remarks)}</td></tr>")
     parts.append("</table><p>Every objective shown is the plan checker's value of a checked plan. "
                  "Plans are geometric models, not load-securing advice.</p></body></html>\n")
     return "".join(parts)
@@ -353,11 +362,11 @@ def write_grade_report(out: str | Path, graded: Mapping[str, Sequence]) -> list[
         s = summary(rows)
         reasons = ", ".join(f"{k} x{v}" for k, v in s["infeasible_reasons"].items())
         parts.append(f"<tr><td>{e(label)}</td><td>{s['instances']}</td><td>{s['feasible']}</td><td>{s['optimal']}</td>"
-                     f"<td>{_fmt(s['mean_gap'], '.4f')}</td><td>{_fmt(s['median_gap'], '.4f')}</td><td>{_fmt(s['max_gap'], '.4f')}</td>"
+                     f"<td>{_pct(s['mean_gap'])}</td><td>{_pct(s['median_gap'])}</td><td>{_pct(s['max_gap'])}</td>"
                      f"<td>{e(reasons)}</td></tr>")
     parts.append("</table>")
     fig = gap_histogram([(label, [r.gap for r in rows if r.gap is not None]) for label, rows in graded.items()],
-                        "gap to the gold value (objective - gold) / objective")
+                        "gap to the gold value (objective - gold) / objective, %")
     parts.append(f"<h2>Gap distribution</h2><img alt='gaps' src='data:image/png;base64,{_png(fig)}'>")
     if len(graded) > 1:
         costs = {label: {r.key: (r.objective if r.feasible else None) for r in rows} for label, rows in graded.items()}

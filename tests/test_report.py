@@ -58,11 +58,12 @@ def test_summary_counts_and_tables():
     assert s == {"instances": 3, "proven": 1, "with_plan": 2, "contradictions": 0, "unchecked": 0, "errors": 1,
                  "median_seconds": 3.0, "mean_gap": 0.125}
     md = summary_markdown(recs)
-    assert "| s1 | 3 | 1 | 2 | 0 | 0 | 1 | 3.00 | 0.1250 |" in md
-    assert "| s2 | 1 | 0 | 1 | 1 | 0 | 0 | 2.00 | 0.0000 |" in md  # a contradicted optimum is not "proven"
+    assert "| s1 | 3 | 1 | 2 | 0 | 0 | 1 | 3.00 | 12.50% |" in md  # gaps read in percent, as on every command
+    assert "| s2 | 1 | 0 | 1 | 1 | 0 | 0 | 2.00 | 0.00% |" in md  # a contradicted optimum is not "proven"
     assert "differs from the known optimum 4" in md
     rows = list(csv.DictReader(io.StringIO(results_csv(recs))))
     assert [r["key"] for r in rows] == ["s1/a", "s1/b", "s1/c", "s2/d"] and rows[2]["objective"] == ""
+    assert float(rows[1]["gap"]) == 0.25  # the CSV keeps FORMATS.md's fraction
 
 
 def _tick_texts(fig, axis: str) -> list[str]:
