@@ -104,3 +104,20 @@ def test_onto_an_existing_file_is_refused_and_the_file_kept(tmp_path, capsys):
     assert main(["generate", "random", "--dim", "2", "--boxes", "3", "-o", str(target)]) == 2
     assert f"{target}: -o: is a file, not a folder" in capsys.readouterr().err
     assert target.read_text() == "keep"
+
+
+def test_a_failed_draw_leaves_no_files_behind(tmp_path, monkeypatch, capsys):
+    import benchmarks.commands.generate as command
+
+    real = command.planted_instance
+
+    def second_fails(dim, boxes, seed, **kw):
+        if seed == 1:
+            raise ValueError("cannot cut the container for this seed (injected)")
+        return real(dim, boxes, seed, **kw)
+
+    monkeypatch.setattr(command, "planted_instance", second_fails)
+    out = tmp_path / "set"
+    assert main(["generate", "planted", "--dim", "2", "--boxes", "4", "--count", "3", "-o", str(out)]) == 2
+    assert "injected" in capsys.readouterr().err
+    assert not out.exists() or not any(out.iterdir())  # the first instance was not written on its own

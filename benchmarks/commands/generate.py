@@ -100,7 +100,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError.one("command line", "--count", f"must be at least 1, got {args.instances}")
     params = parameters(args)
     out = check_output(args.out, "-o", folder=True)
-    entries = []
+    entries, documents = [], []  # written only once every instance is drawn: a failed draw leaves nothing half-done
     line = StatusLine(enabled=not args.quiet)
     for k in range(args.instances):
         seed = args.seed + k
@@ -114,10 +114,10 @@ def run(args: argparse.Namespace) -> int:
             line.close()
             raise InputError.one("command line", _option_of(str(exc)), str(exc)) from None
         entry: dict[str, Any] = {"file": f"{inst.name}.json", "seed": seed}
-        write_json(out / entry["file"], instance_to_dict(inst))
+        documents.append((entry["file"], instance_to_dict(inst)))
         if plan is not None:
             entry["plan"] = f"{inst.name}.plan.json"
-            write_json(out / entry["plan"], plan_to_dict(plan))
+            documents.append((entry["plan"], plan_to_dict(plan)))
         entry["known"] = None if inst.known is None else inst.known.optimum
         entry["features"] = {k: round(v, 6) for k, v in source_features(inst).items()}
         entries.append(entry)
@@ -130,8 +130,9 @@ def run(args: argparse.Namespace) -> int:
         "parameters": params,
         "instances": entries,
     }
-    write_json(out / MANIFEST, manifest)
     line.close()
+    for name, doc in documents + [(MANIFEST, manifest)]:
+        write_json(out / name, doc)
     print(f"wrote {plural(len(entries), args.kind + ' instance')} to {out}/ ({MANIFEST} lists them)")
     return 0
 
