@@ -41,18 +41,9 @@ from ortools.sat.python import cp_model
 
 from instances.model import FACES_OF_GRIP, Instance, Move, Plan, grip_needed, is_upright
 from instances.precedence import face_blockers, precedence_graph
-
-STATUS = {
-    cp_model.OPTIMAL: "optimal",
-    cp_model.FEASIBLE: "feasible",
-    cp_model.INFEASIBLE: "infeasible",
-    cp_model.UNKNOWN: "unknown",
-    cp_model.MODEL_INVALID: "error",
-}
-
-
-class NotExact(ValueError):
-    """The instance lies outside the cases this integer model solves exactly."""
+from tests.oracles.cpsat import STATUS
+# plain records shared with the exhaustive search; the reasoning about rules stays separate
+from tests.oracles.exhaustive import NotExact, _Option, _Slot
 
 
 @dataclass(frozen=True)
@@ -70,21 +61,6 @@ class CpRules:
     bound: Optional[int]
     plan: Optional[Plan]
     seconds: float
-
-
-@dataclass(frozen=True)
-class _Option:
-    orientation: str
-    ext: tuple[int, ...]
-    grip: Optional[str]
-
-
-@dataclass(frozen=True)
-class _Slot:
-    type_id: str
-    index: int
-    size: tuple[int, ...]  # footprint
-    height: Optional[int]
 
 
 def _int(value, what: str) -> int:
