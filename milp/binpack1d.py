@@ -8,13 +8,14 @@ this holds for every rule and container mix, and only when a packing of the 1D a
 really be carried out (a move sequence that honours the source, supports that hold).
 
 The finder `plans_1d` proposes checked-plan candidates: first-fit and best-fit decreasing
-(Johnson 1974), a bin-completion search for exactly K = lower-bound bins, and the arc-flow
+(Johnson 1974), an exhaustive bin-completion search for K = lower-bound bins, and the arc-flow
 model of Valério de Carvalho (1999), "Exact solution of bin-packing problems using column
 generation and branch-and-bound", Annals of Operations Research 86, on HiGHS. Its graph keeps
 only arcs that start at points reachable by larger-or-equal items (the paper's reduction
-criteria: normal-pattern points, items in decreasing order, at most d_t copies of a size).
-It never claims a proof: the pipeline checks each plan and proves optimality only by meeting a
-proved lower bound.
+criteria) and is then compressed by relabelling (Brandão & Pedroso 2016). The finder never
+claims a proof: the pipeline checks each plan and proves optimality only by meeting a proved
+lower bound. `proved_lower_bound` offers one: Martello-Toth L2, the arc-flow LP bound made exact
+with integer item weights, or the arc-flow optimum once an integer search refutes one bin fewer.
 
 Example:
     >>> data = recognise(instance, problem)          # doctest: +SKIP
@@ -597,10 +598,13 @@ def plans_1d(instance: Instance, problem: Problem, lower: float, deadline: float
         return
     share = time.perf_counter() + SEARCH_SHARE * (deadline - time.perf_counter())
     if target <= count:
-        found = complete_bins(lengths, cap, target, share)
+        found = complete_bins(lengths, cap, target, share, SEARCH_NODES)
         if found is not None:
             yield to_plan(instance, data, found)
             return
+    target = max(target, lp_weight_bound(lengths, cap, deadline) or 0)  # a tighter floor for the arc flow
+    if len(best) <= target:
+        return
     upper = min(len(best) - 1, count)
     if upper < target or time.perf_counter() >= deadline:
         return
@@ -612,9 +616,12 @@ def plans_1d(instance: Instance, problem: Problem, lower: float, deadline: float
 # ---------------------------------------------------------------- a proved bound (for the pipeline)
 
 
-def proved_lower_bound(instance: Instance, problem: Problem, deadline: float,
+def proved_lower_bound(instance: Instance, problem: Problem, deadline: float, upper: Optional[float] = None,
                        node_limit: int = SEARCH_NODES) -> Optional[tuple[float, str]]:
     """A lower bound on the bins of a recognised 1D instance, with its reason; None if not 1D.
+
+    `upper` is the bins of the best checked plan known, if any: the search then only tries to
+    prove that no plan with fewer bins exists.
 
     The largest of: Martello-Toth L2; the arc-flow LP bound made exact (`lp_weight_bound`); and
     the optimum K the arc-flow MILP names (HiGHS, floating point), which stands only when the
@@ -628,6 +635,8 @@ def proved_lower_bound(instance: Instance, problem: Problem, deadline: float,
     lengths, cap, count = list(data.lengths), data.capacity, len(data.slots)
     lower, reason = lower_bound_l2(lengths, cap), "Martello-Toth L2"
     best = min(len(fit_decreasing(lengths, cap, b)) for b in (False, True))
+    if upper is not None and math.isfinite(upper):
+        best = min(best, int(math.floor(upper + 1e-9)))
     if best > lower and lower <= count and time.perf_counter() < deadline:
         lp = lp_weight_bound(lengths, cap, deadline)
         if lp is not None and lp > lower:

@@ -32,7 +32,7 @@ def special_plans(instance: Instance, problem: Problem, lower: float, deadline: 
 
 from . import binpack1d as _binpack1d  # noqa: E402  (a finder module registers after FINDERS exists)
 
-FINDERS.append(("1D bin packing (arc flow)", _binpack1d.plans_1d))
+FINDERS.append(("1D bin packing", _binpack1d.plans_1d))
 
 from . import perfect as _perfect  # noqa: E402
 
