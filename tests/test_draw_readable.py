@@ -79,6 +79,11 @@ def iso20():
     return drawn(3, 20, 1)
 
 
+@pytest.fixture(scope="module")
+def flat300():
+    return drawn(2, 300, 1)
+
+
 def test_every_picture_has_a_title_with_objective_and_status():
     inst, plan = read_instance(demo_instance_path()), read_plan(demo_plan_path())
     report = check_plan(inst, plan)
@@ -170,10 +175,10 @@ def test_no_hash_numbering_and_containers_named_by_index(flat100):
                 assert t.text == g.get("data-step")
 
 
-def test_many_boxes_are_not_slivers_and_the_canvas_grows():
+def test_many_boxes_are_not_slivers_and_the_canvas_grows(flat300):
     """300 boxes: the median drawn box keeps its smallest side over 18 px; tall containers are cut
     into parts; each box still drawn exactly once per side; and the canvas is larger than for 20."""
-    inst, plan, root = drawn(2, 300, 1)
+    inst, plan, root = flat300
     small = drawn(2, 20, 1)[2]
     sides = [min(p.bounds[2] - p.bounds[0], p.bounds[3] - p.bounds[1]) for g in groups(root, "box") for p in [body(g)]]
     assert statistics.median(sides) >= 18.0
@@ -191,8 +196,8 @@ def test_many_boxes_are_not_slivers_and_the_canvas_grows():
         assert f"Labels left off {unlabelled} of" in legend
 
 
-def test_height_mark_in_exactly_one_part_per_move():
-    inst, plan, root = drawn(2, 300, 1)
+def test_height_mark_in_exactly_one_part_per_move(flat300):
+    inst, plan, root = flat300
     by_container: dict[str, list[list[str]]] = {}
     finals: dict[str, int] = {}
     for g in groups(root, "height-mark"):
