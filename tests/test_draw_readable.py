@@ -16,6 +16,8 @@ import xml.etree.ElementTree as ET
 from functools import lru_cache
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from shapely.geometry import LineString, Polygon, box as shapely_box
 from shapely.ops import unary_union
 
@@ -103,42 +105,36 @@ def test_every_picture_has_a_title_with_objective_and_status():
     assert f"<h1>{inst.name}</h1>" in html and "status feasible" in html and f"objective {report.objective:g}" in html
 
 
-@pytest.mark.parametrize("which", ["flat100", "iso20"])
-def test_labels_stay_inside_their_boxes(which, request):
-    """Each label's measured box lies inside its box's drawn shape (2D: the rectangle; 3D: the
-    face it is written on), 1 px of slack for rounding."""
-    inst, plan, root = request.getfixturevalue(which)
-    shapes = {}
-    for g in groups(root, "box"):
-        faces = polygons(g, "body") + polygons(g, "face")
-        shapes[(g.get("data-side"), g.get("data-box"))] = faces
-    checked = 0
+def labels_inside_and_clear(root: ET.Element) -> tuple[int, int]:
+    """Assert each label's measured box lies inside its box's drawn shape (2D: the rectangle; 3D:
+    the face it is written on; 1 px of slack for rounding) and that no arrow crosses one; return
+    how many labels and arrows were checked."""
+    shapes = {(g.get("data-side"), g.get("data-box")): polygons(g, "body") + polygons(g, "face") for g in groups(root, "box")}
+    rects = []
     for g in groups(root, "label"):
-        faces = shapes[(g.get("data-side"), g.get("data-box"))]
         for t in g.findall(NS + "text"):
             rect = text_rect(t).buffer(-1.0)
-            assert any(f.contains(rect) for f in faces), f"label {t.text!r} of {g.get('data-box')} spills out of its box"
+            assert any(f.contains(rect) for f in shapes[(g.get("data-side"), g.get("data-box"))]), \
+                f"label {t.text!r} of {g.get('data-box')} spills out of its box"
             assert float(t.get("font-size")) >= 7.0
-            checked += 1
-    assert checked > len(inst.boxes)  # most boxes are labelled
+            rects.append(rect)
+    labels = unary_union(rects)
+    arrows = 0
+    for e in groups(root, "edge"):
+        for ln in e.findall(NS + "line"):
+            if ln.get("class") in ("lift", "side"):
+                seg = LineString([(float(ln.get("x1")), float(ln.get("y1"))), (float(ln.get("x2")), float(ln.get("y2")))])
+                assert not seg.intersects(labels), f"{e.get('data-kind')} arrow {e.get('data-from')}->{e.get('data-to')} crosses a label"
+                arrows += 1
+    return len(rects), arrows
 
 
 @pytest.mark.parametrize("which", ["flat100", "iso20"])
-def test_no_arrow_runs_through_a_label(which, request):
-    _, _, root = request.getfixturevalue(which)
-    rects = [text_rect(t).buffer(-1.0) for g in groups(root, "label") for t in g.findall(NS + "text")]
-    index = unary_union(rects)
-    edges = 0
-    for e in groups(root, "edge"):
-        for ln in e.findall(NS + "line"):
-            if ln.get("class") not in ("lift", "side"):
-                continue
-            seg = LineString([(float(ln.get("x1")), float(ln.get("y1"))), (float(ln.get("x2")), float(ln.get("y2")))])
-            edges += 1
-            if seg.intersects(index):
-                hit = [r for r in rects if seg.intersects(r)]
-                pytest.fail(f"{e.get('data-kind')} arrow {e.get('data-from')}->{e.get('data-to')} crosses {len(hit)} label(s)")
-    assert edges > 10
+def test_labels_inside_their_boxes_and_no_arrow_through_one(which, request):
+    inst, _, root = request.getfixturevalue(which)
+    labels, arrows = labels_inside_and_clear(root)
+    assert labels > len(inst.boxes)  # most boxes are labelled
+    assert arrows > 10
 
 
 @pytest.mark.parametrize("which", ["flat100", "iso20"])
@@ -255,3 +251,22 @@ def test_page_titles_and_move_table_row_follow_the_slider(tmp_path):
     with Image.open(shot) as im:
         assert im.size == (1400, 1000)
         assert len(im.convert("L").resize((70, 50)).getcolors(maxcolors=4096) or ()) > 10  # not a blank page
+
+
+@settings(max_examples=6, deadline=None)
+@given(dim=st.sampled_from([2, 3]), n=st.integers(25, 45), seed=st.integers(0, 10_000))
+def test_generated_loads_stay_readable(dim, n, seed):
+    """Generated instances large enough to be cut into parts: each box drawn once per side, every
+    label inside its box and clear of every arrow, ghosts never labelled."""
+    inst = random_instance(dim, n, seed)
+    plan = drop_plan(inst)
+    if plan is None:
+        return
+    root = parse(render(inst, plan, "svg").decode("utf-8"))
+    for b in inst.boxes:
+        assert len(groups(root, "box", side="source", box=b.id)) == 1
+        assert len(groups(root, "box", side="target", box=b.id)) == 1
+    labels_inside_and_clear(root)
+    for g in root.iter(NS + "g"):
+        if g.get("class") == "ghost":
+            assert not g.findall(NS + "text")
