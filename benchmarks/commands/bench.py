@@ -22,7 +22,7 @@ from ..text import percent, plural
 
 NAME = "bench"
 HELP = "Run the solver on benchmark suites, verify every result against known values, write reports."
-DESCRIPTION = (HELP + " Rows on the terminal show gaps in percent; the results file and reports keep FORMATS.md's "
+DESCRIPTION = (HELP + " Rows on the terminal show gaps in percent; the results file and results.csv keep FORMATS.md's "
                "fraction (objective - bound) / objective. Exit 0 when all is well; 1 on a contradiction, an unchecked "
                "plan, a regression, or when no instance produced a checked result; 2 on bad input; 130 on Ctrl-C.")
 

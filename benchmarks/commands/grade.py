@@ -17,7 +17,7 @@ from ..suites import load_suites, select
 
 NAME = "grade"
 HELP = "Grade plans from a folder or a heuristic function against proven optima, known optima or bounds."
-DESCRIPTION = (HELP + " The table shows gaps (objective - gold) / objective in percent; --json and the report "
+DESCRIPTION = (HELP + " The table shows gaps (objective - gold) / objective in percent; --json and grade.csv "
                "keep the fraction. Plan files in a --plans folder are named after the instance: NAME.plan.json, "
                "NAME.result.json or NAME.json (a file holding an instance is never taken as a plan), in DIR/SET/ or DIR/. "
                "Exit 0 when every plan is feasible, 1 when one is not, 2 on bad input.")
