@@ -191,12 +191,14 @@ def title_lines(rp: Replay, result: Optional[Result] = None) -> tuple[str, str]:
     """The picture's title (the instance's name) and a subtitle: size, objective and its value,
     the checker's verdict on the plan, and the solver's status, bound and gap when a result is drawn."""
     inst = rp.instance
-    obj = inst.objective.minimise + (f" then {inst.objective.then}" if inst.objective.then != "none" else "")
+    then = inst.objective.then != "none"
     parts = [f"{inst.dim}D, {len(inst.boxes)} boxes"]
     if rp.report is None:
+        obj = inst.objective.minimise + (f" then {inst.objective.then}" if then else "")
         parts.append(f"minimise {obj}; no plan (the instance and its precedence graph)")
     else:
-        parts.append(f"minimise {obj} = {num(rp.report.objective)}")
+        parts.append(f"minimise {inst.objective.minimise} = {num(rp.report.objective)}"
+                     + (f", then {inst.objective.then} = {rp.report.tips}" if then else ""))
         parts.append("plan checked: feasible" if rp.report.feasible else
                      f"plan INFEASIBLE: {len(rp.report.violations)} violation{'s' if len(rp.report.violations) != 1 else ''}")
     if result is not None:
@@ -398,7 +400,8 @@ def legend(col: Colours, rp: Replay, x0: float, y0: float, width: float, notes: 
         items.append(Group(_shift(glyph, x, y), {"class": "legend-glyph"}))
         items.append(Text(x + 28, y, label, 11, anchor="start", cls="legend"))
         x += w
-    lines = ["Panels: container type[index] as in the plan file."]
+    lines = ["Panels: container type[index] as in the plan file."] if rp.steps else \
+        ["Panels: the source and each container type (x count; no plan given)."]
     if notes.cut:
         lines.append("Tall containers are cut into parts k/n, shown left to right from the bottom up, heights at the "
                      "left; each box is drawn in the part where its bottom lies.")
