@@ -178,7 +178,9 @@ def small_strips(draw) -> Instance:
 def test_milp_equals_cpsat_on_drawn_strips(inst):
     cp = strip_height_cpsat(inst, time_limit=60)
     assert cp.status == "optimal"
-    result = milp.solve(inst, time_limit=60)
+    # generous: every infeasible height step is solved twice (the confirming solve, issue 10), and
+    # the machine may be shared; a proof is required, its speed is measured in benchmarks/
+    result = milp.solve(inst, time_limit=150)
     assert result.status == "optimal", (result.status, result.objective, result.bound, result.notes)
     assert result.objective == cp.height
     assert all(v <= cp.height + EPS for v in result.bounds.values()), result.bounds
