@@ -11,6 +11,8 @@ from collections import defaultdict
 from pathlib import Path
 from typing import Iterable
 
+from .text import percent
+
 from instances.io import write_text_atomic
 
 
@@ -44,7 +46,7 @@ def junit_xml(records: Iterable[dict], name: str = "stackproof bench") -> str:
             obj = r.get("objective")
             out.text = (
                 f"status {r.get('status')}, objective {obj if obj is not None else '-'}, bound {r.get('bound')}, "
-                f"gap {r.get('gap')}, config {r.get('config')}, hash {r.get('hash')}"
+                f"gap {percent(r.get('gap'))}, config {r.get('config')}, hash {r.get('hash')}"
             )
         for k, v in counts.items():
             suite.set(k, str(v))

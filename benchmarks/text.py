@@ -25,7 +25,4 @@ def plural(n: int, word: str, words: Optional[str] = None) -> str:
 
 def violation_text(v) -> str:
     """One checker violation for people: `move 3 (box b1): overlap: ...`, moves counted from 1."""
-    where = "plan" if v.move is None else f"move {v.move + 1}"
-    if v.box is not None:
-        where += f" (box {v.box})"
-    return f"{where}: {v.rule}: {v.detail}"
+    return str(v)

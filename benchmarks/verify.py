@@ -54,7 +54,8 @@ def verify(instance: Instance, result: Result) -> Verdict:
                 problems.append(f"solver reports objective {result.objective:g}, the checker computes {objective:g}")
         else:
             violations = [str(v) for v in report.violations]
-            problems.append(f"plan rejected by the checker ({len(violations)} violations; first: {violations[0]})")
+            problems.append(f"plan rejected by the checker ({len(violations)} violation{'s' if len(violations) != 1 else ''}; "
+                            f"first: {violations[0]})")
     if result.status in NEEDS_PLAN and result.plan is None:
         problems.append(f"status {result.status} without a plan")
     if result.status == "optimal" and objective is not None and result.bound is not None and not close(objective, result.bound, tol):

@@ -39,8 +39,10 @@ class Violation:
     detail: str
 
     def __str__(self) -> str:
-        where = "plan" if self.move is None else f"move {self.move}"
-        return f"{where} ({self.box}): {self.rule}: {self.detail}"
+        where = "plan" if self.move is None else f"move {self.move + 1}"  # moves count from 1 for people
+        if self.box is not None:
+            where += f" (box {self.box})"
+        return f"{where}: {self.rule}: {self.detail}"
 
 
 @dataclass
@@ -112,9 +114,9 @@ class _State:
             return
         self.moved_now(index, move)
         if move.orientation not in box.orientations:
-            self.flag(index, move, "orientation", f"{move.orientation!r} is not among the allowed {list(box.orientations)}")
+            self.flag(index, move, "orientation", f"{move.orientation!r} is not among the allowed {', '.join(box.orientations)}")
         if len(move.at) != inst.dim or len(move.orientation) != inst.dim:
-            self.flag(index, move, "dimension", f"position {list(move.at)} / orientation {move.orientation!r} do not have {inst.dim} axes")
+            self.flag(index, move, "dimension", f"position ({', '.join(f'{a:g}' for a in move.at)}) / orientation {move.orientation!r} do not have {inst.dim} axes")
             return
         type_id, slot = move.container
         try:
@@ -140,7 +142,7 @@ class _State:
         """Lift order and tipping access are judged at the moment the box leaves the source."""
         lifts = [j for j, _, k in self.graph.in_edges(move.box, data="kind") if k == "lift" and j not in self.moved]
         if lifts:
-            self.flag(index, move, "lift-order", f"boxes still on top of it in the source: {sorted(lifts)}")
+            self.flag(index, move, "lift-order", f"boxes still on top of it in the source: {', '.join(sorted(lifts))}")
         needed = grip_needed(move.orientation) if len(move.orientation) == self.instance.dim else None
         if move.grip is not None and is_upright(move.orientation):
             self.flag(index, move, "grip", f"grip {move.grip!r} given for an upright move")
@@ -150,8 +152,8 @@ class _State:
                 self.flag(index, move, "grip", f"grip {move.grip!r} given, but this tip needs {needed!r}")
             elif self.instance.source is not None and self.instance.rules.access == "side-face":
                 if not grip_free(self.graph, move.box, needed, self.moved):
-                    blocked = sorted(self.graph.nodes[move.box]["wall_blocked"])
-                    self.flag(index, move, "side-access", f"tip needs a free face of {needed!r}; none is free (wall-blocked: {blocked}, touching boxes still in the source)")
+                    blocked = ", ".join(sorted(self.graph.nodes[move.box]["wall_blocked"])) or "none"
+                    self.flag(index, move, "side-access", f"tip needs a free face of {needed!r}; none is free (wall-blocked: {blocked}; touching boxes still in the source)")
         self.moved.add(move.box)
 
     def check_position(self, index: int, move: Move, p: Placed, csize: tuple) -> None:

@@ -13,7 +13,7 @@ import pulp
 
 from instances.checker import check_plan
 from instances.errors import InputError
-from instances.io import instance_digest
+from instances.io import file_mode, instance_digest
 from instances.model import Instance, Plan, ProofStep, Provenance, Result, SolverInfo, TieBreak, relative_gap
 from instances.precedence import precedence_graph
 
@@ -85,7 +85,7 @@ class _Run:
         """Check a plan; keep it when feasible and better. A rejected plan is recorded as an error."""
         report = check_plan(self.instance, plan, self.graph)
         if not report.feasible:
-            self.errors.extend(f"checker rejected the model's plan: move {v.move} box {v.box}: {v.rule}: {v.detail}"
+            self.errors.extend(f"checker rejected the model's plan: {v}"
                                for v in report.violations)
             return False
         cand = Incumbent(plan, report)
@@ -218,7 +218,7 @@ def _export(p: Problem, run: _Run, path: str) -> None:
     fd, tmp = tempfile.mkstemp(prefix=".model-", suffix=target.suffix, dir=target.parent or ".")
     os.close(fd)
     try:
-        os.chmod(tmp, 0o644)
+        os.chmod(tmp, file_mode(target))  # as a plain open() would: the umask, or the replaced file's mode
         if target.suffix.lower() == ".lp":
             m.lp.writeLP(tmp)
         else:
