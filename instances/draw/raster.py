@@ -9,9 +9,11 @@ DPI = 100
 
 
 def to_png(scene: Scene) -> bytes:
-    """PNG bytes of `scene`, `scene.width` x `scene.height` pixels."""
+    """PNG bytes of `scene`, `scene.width` x `scene.height` pixels (artists added without
+    autoscaling: the limits are the canvas)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
+    from matplotlib.lines import Line2D
     from matplotlib.patches import FancyArrowPatch, Polygon
 
     fig = Figure(figsize=(scene.width / DPI, scene.height / DPI), dpi=DPI)
@@ -23,21 +25,21 @@ def to_png(scene: Scene) -> bytes:
     pt = 72.0 / DPI  # points per pixel
     for z, it in enumerate(walk(scene.items)):
         if isinstance(it, Poly):
-            ax.add_patch(Polygon(it.points, closed=True, facecolor=it.fill, edgecolor=it.stroke,
+            ax.add_artist(Polygon(it.points, closed=True, facecolor=it.fill, edgecolor=it.stroke,
                                  linewidth=it.width * pt, linestyle=_dash(it.dash, it.width), zorder=z,
                                  alpha=None if it.opacity == 1 else it.opacity))
         elif isinstance(it, Line):
             if it.halo:
-                ax.plot([it.a[0], it.b[0]], [it.a[1], it.b[1]], color="white", alpha=0.8,
-                        linewidth=(it.width + 2.5) * pt, solid_capstyle="round", zorder=z)
+                ax.add_artist(Line2D([it.a[0], it.b[0]], [it.a[1], it.b[1]], color="white", alpha=0.8,
+                                     linewidth=(it.width + 2.5) * pt, solid_capstyle="round", zorder=z))
             if it.arrow:
                 style = "-|>" if it.arrow == "solid" else "->"
-                ax.add_patch(FancyArrowPatch(it.a, it.b, arrowstyle=style, mutation_scale=9, color=it.stroke,
+                ax.add_artist(FancyArrowPatch(it.a, it.b, arrowstyle=style, mutation_scale=9, color=it.stroke,
                                              linewidth=it.width * pt, linestyle=_dash(it.dash, it.width),
                                              shrinkA=0, shrinkB=0, zorder=z))
             else:
-                ax.plot([it.a[0], it.b[0]], [it.a[1], it.b[1]], color=it.stroke, linewidth=it.width * pt,
-                        linestyle=_dash(it.dash, it.width), zorder=z)
+                ax.add_artist(Line2D([it.a[0], it.b[0]], [it.a[1], it.b[1]], color=it.stroke, linewidth=it.width * pt,
+                                     linestyle=_dash(it.dash, it.width), zorder=z))
         elif isinstance(it, Text):
             ha = {"start": "left", "middle": "center", "end": "right"}[it.anchor]
             ax.text(it.x, it.y, it.text, fontsize=it.size * pt, color=it.colour, ha=ha, va="center_baseline",
