@@ -253,7 +253,10 @@ class _Search:
         key = _state_key(segs, counts)
         if key in self.dead:
             return False
-        well = self._branch_well(segs, counts) if self._room_fits(segs, counts) else None
+        reach_w = self._sums(counts, self.widths, self.mask_w)
+        reach_h = self._sums(counts, self.heights, self.mask_h)
+        fits = self._room_fits(segs, counts, reach_w, reach_h)
+        well = self._branch_well(segs, counts, reach_w, reach_h) if fits else None
         if well is None:
             self._remember(key)
             return False
@@ -273,38 +276,35 @@ class _Search:
         if len(self.dead) < _TABLE_LIMIT:
             self.dead.add(key)
 
-    def _branch_well(self, segs, counts):
-        """The well with the fewest fitting (kind, extents), with them best first; None when a test fails.
+    def _branch_well(self, segs, counts, reach_w: int, reach_h: int):
+        """The well with the fewest fitting (kind, extents), with them best first; None when one has none.
 
-        Tests: every column's headroom is a sum of remaining heights, and every well has a box
-        whose width leaves a remainder that remaining widths can fill. Any well may be branched
+        A fitting box leaves a remainder of the well's width that remaining widths can fill, and
+        headroom above it that remaining heights can fill. Any well may be branched
         on (its bottom-left corner is a box corner in every completion), so the most constrained
         one is taken (ties: lowest, then leftmost).
         """
-        reach_w = self._sums(counts, self.widths, self.mask_w)
-        reach_h = self._sums(counts, self.heights, self.mask_h)
-        H = self.H
         n = len(segs)
         best = None
         for j, (_, g, y) in enumerate(segs):
-            if not (reach_h >> (H - y)) & 1:
-                return None
             left = segs[j - 1][2] if j > 0 else None
             right = segs[j + 1][2] if j + 1 < n else None
             if (left is not None and left < y) or (right is not None and right < y):
                 continue
-            options = self._candidates(counts, g, y, left, right, reach_w)
+            options = self._candidates(counts, g, y, left, right, reach_w, reach_h)
             if not options:
                 return None
             if best is None or (len(options), y) < (len(best[1]), segs[best[0]][2]):
                 best = (j, options)
         return best
 
-    def _room_fits(self, segs, counts) -> bool:
-        """Zero-waste test on the empty region above the skyline, across and up (Korf-style wasted space).
+    def _room_fits(self, segs, counts, reach_w: int, reach_h: int) -> bool:
+        """Zero-waste tests on the empty region above the skyline, across and up.
 
-        An empty cell whose horizontal run at its height is a wide can only be covered by a box at
-        most a wide; so for every a, the cells with runs of at most a need no more area than the
+        At any height, each maximal empty run is tiled by the remaining boxes crossing that
+        height, so its width is a sum of remaining widths; each column's headroom is a sum of
+        remaining heights. Then Korf-style wasted space with no waste allowed: an empty cell whose
+        run at its height is a wide can only be covered by a box at most a wide; so for every a, the cells with runs of at most a need no more area than the
         boxes at most a wide hold. Likewise up: a column with headroom b takes boxes at most b tall.
         """
         H = self.H
@@ -312,6 +312,8 @@ class _Search:
         across = []
         for idx, level in enumerate(levels):
             band = (levels[idx + 1] if idx + 1 < len(levels) else H) - level
+            if band <= 0:
+                continue  # the top is reached: nothing left to fill at this level
             run = 0
             for _, g, y in segs:
                 if y <= level:
@@ -321,10 +323,17 @@ class _Search:
                     run = 0
             if run:
                 across.append((run, run * band))
+        for run, _ in across:
+            if not (reach_w >> run) & 1:
+                return False
         up = [(H - y, g * (H - y)) for _, g, y in segs if y < H]
+        for b, _ in up:
+            if not (reach_h >> b) & 1:
+                return False
         return _hall(across, self.by_width, self.area, counts) and _hall(up, self.by_height, self.area, counts)
 
-    def _candidates(self, counts, g: int, y: int, left: Optional[int], right: Optional[int], reach_w: int):
+    def _candidates(self, counts, g: int, y: int, left: Optional[int], right: Optional[int], reach_w: int,
+                    reach_h: int):
         """(kind, extents) that fit at the well's corner, best first: exact width fits, flush tops, big areas."""
         room = self.H - y
         out = []
@@ -332,7 +341,7 @@ class _Search:
             if not c:
                 continue
             for w, h in self.kinds[k]:
-                if w > g or h > room or not (reach_w >> (g - w)) & 1:
+                if w > g or h > room or not (reach_w >> (g - w)) & 1 or not (reach_h >> (room - h)) & 1:
                     continue
                 flush = (y + h == left) or (w == g and y + h == right)
                 out.append((self.key(k, w, h, g, flush), k, (w, h)))
