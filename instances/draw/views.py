@@ -164,8 +164,8 @@ def cut(p: Panel, parts: int, margin: float) -> list[Panel]:
         last = n == len(kept)
         lo = 0.0 if n == 1 else max(0.0, cuts[k] - margin)
         hi = max([cuts[k + 1]] + [c.top for c in groups[k]])
-        if last:
-            hi = max(hi, height)
+        if last:  # a lid is shown; an open top just above the highest box
+            hi = max(c.top for c in groups[k]) * 1.02 if p.open_top and groups[k] else max(hi, height)
         members = set(id(c) for c in groups[k])
         ghosts = tuple(clip(c, lo, hi) for c in p.contents if id(c) not in members and c.bottom < hi and c.top > lo)
         until = None if last else cuts[kept[n]]
