@@ -406,7 +406,7 @@ def legend(col: Colours, rp: Replay, x0: float, y0: float, width: float, notes: 
         lines.append("Tall containers are cut into parts k/n, shown left to right from the bottom up, heights at the "
                      "left; each box is drawn in the part where its bottom lies.")
     if notes.unlabelled:
-        lines.append(f"Labels left off {notes.unlabelled} of {notes.labels} boxes (too small to read at this scale); "
+        lines.append(f"Labels left off {notes.unlabelled} of {notes.labels} drawn boxes (too small to read at this scale); "
                      "hover a box in the SVG or the page for its id and move.")
     lines += notes.extra
     y += 20
