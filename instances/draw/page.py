@@ -19,7 +19,7 @@ from ..model import FACES, Instance, Plan, Result
 from ..precedence import face_blockers, lift_graph
 from .timeline import Replay, grip_text, replay
 from .svg import to_svg
-from .views import container_label, num, title_lines
+from .views import container_label, num, plural, title_lines
 
 
 def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "destination",
@@ -67,16 +67,16 @@ def page_html(instance: Instance, plan: Optional[Plan] = None, color_by: str = "
 
 def summary(rp: Replay) -> str:
     inst = rp.instance
-    parts = [f"{inst.dim}D, {len(inst.boxes)} boxes, {sum(c.count for c in inst.containers)} target container(s)",
+    parts = [f"{inst.dim}D, {len(inst.boxes)} boxes, {plural(sum(c.count for c in inst.containers), 'target container')}",
              f"objective: {inst.objective.minimise}" + (f" then {inst.objective.then}" if inst.objective.then != "none" else "")]
     if rp.report is None:
         parts.append("no plan: the instance and its precedence graph")
     elif rp.report.feasible:
-        parts.append(f"plan feasible (checked), objective {num(rp.report.objective)}, {rp.report.tips} tip(s)")
+        parts.append(f"plan feasible (checked), objective {num(rp.report.objective)}, {plural(rp.report.tips, 'tipped box', 'tipped boxes')}")
     else:
         first = min((v.move for v in rp.report.violations if v.move is not None), default=None)
         where = f", first at move {first + 1}" if first is not None else ""
-        parts.append(f"plan INFEASIBLE: {len(rp.report.violations)} violation(s){where}")
+        parts.append(f"plan INFEASIBLE: {plural(len(rp.report.violations), 'violation')}{where}")
     return "; ".join(parts)
 
 

@@ -200,7 +200,7 @@ def title_lines(rp: Replay, result: Optional[Result] = None) -> tuple[str, str]:
         parts.append(f"minimise {inst.objective.minimise} = {num(rp.report.objective)}"
                      + (f", then {inst.objective.then} = {rp.report.tips}" if then else ""))
         parts.append("plan checked: feasible" if rp.report.feasible else
-                     f"plan INFEASIBLE: {len(rp.report.violations)} violation{'s' if len(rp.report.violations) != 1 else ''}")
+                     f"plan INFEASIBLE: {plural(len(rp.report.violations), 'violation')}")
     if result is not None:
         claim = [f"solver status {result.status}"]
         if result.bound is not None:
@@ -460,6 +460,11 @@ def box_title(rp: Replay, box_id: str, side: str) -> str:
     if b.target:
         parts.append(f"must go to {b.target}")
     return "; ".join(parts)
+
+
+def plural(n: int, word: str, words: Optional[str] = None) -> str:
+    """`1 violation`, `2 violations` (`words` for an irregular plural)."""
+    return f"{n} {word if n == 1 else (words or word + 's')}"
 
 
 def num(v: Optional[float]) -> str:
