@@ -270,3 +270,33 @@ def test_generated_loads_stay_readable(dim, n, seed):
     for g in root.iter(NS + "g"):
         if g.get("class") == "ghost":
             assert not g.findall(NS + "text")
+
+
+def test_page_shows_one_height_mark_per_container_in_a_cut_picture(tmp_path):
+    """In headless Chromium, on a 2D load cut into parts: at move k each container's running
+    height shows in exactly one part, with the height after move k."""
+    from instances.draw import write_page
+    from tests.test_draw_page import CHROMIUM, dom_at
+
+    if CHROMIUM is None:
+        pytest.skip("no chromium binary found")
+    inst = random_instance(2, 60, 3)
+    plan = drop_plan(inst)
+    root = parse(render(inst, plan, "svg").decode("utf-8"))
+    assert any(re.search(r" \d+/\d+$", t.text or "") for t in root.iter(NS + "text") if t.get("class") == "panel-title")
+    page = write_page(inst, plan, tmp_path / "cut.html")
+    k = len(plan.moves) // 2
+    d = dom_at(page, k)
+    heights: dict[str, float] = {}
+    for m in plan.moves[:k]:
+        key = f"{m.container[0]}#{m.container[1]}"
+        ext = inst.box(m.box).extents(m.orientation)
+        heights[key] = max(heights.get(key, 0.0), m.at[-1] + ext[-1])
+    shown: dict[str, int] = {}
+    for t, a in d.elements:
+        if t == "g" and a.get("class") == "height-mark" and a.get("display") != "none":
+            shown[a["data-container"]] = shown.get(a["data-container"], 0) + 1
+            assert a["data-dy"].split()[k] != "-", "shown in the part that holds the height"
+            assert float(a["data-h"].split()[k]) == pytest.approx(heights.get(a["data-container"], 0.0))
+    containers = {f"{m.container[0]}#{m.container[1]}" for m in plan.moves}
+    assert shown == {c: 1 for c in containers}
