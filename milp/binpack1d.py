@@ -41,6 +41,7 @@ MAX_SCALE_DIGITS = 4  # sizes with up to 4 decimals are scaled to integers; fine
 SEARCH_SHARE = 0.25  # share of the time left given to the bin-completion search before the arc flow
 SEARCH_NODES = 1_000_000  # node limit of the bin-completion search (about a second)
 MAX_ARCS = 400_000  # larger arc-flow graphs are not built (about a second of Python to build this many)
+MAX_MILP_ITEMS = 150  # HiGHS overran a 3 s limit (5.6-11 s, in its root node; interrupt callbacks too) at 200-1000 items
 WEIGHT_SCALE = 1_000_000  # LP duals are rounded down to multiples of 1/WEIGHT_SCALE for the exact bound
 
 
@@ -61,10 +62,6 @@ class OneD:
     slots: tuple[tuple[str, int], ...]
     orientation: tuple[str, ...]
     order: tuple[int, ...]
-
-    @property
-    def n(self) -> int:
-        return len(self.lengths)
 
 
 # ---------------------------------------------------------------- recognition
@@ -471,7 +468,7 @@ def _arc_model(lengths: Sequence[int], capacity: int, lower: int, upper: int, in
     lp = highspy.HighsLp()
     lp.num_col_, lp.num_row_ = m, n_rows
     lp.col_cost_ = np.array([1.0 if u == source else 0.0 for u, _, _ in arcs])
-    lp.col_lower_, lp.col_upper_ = np.zeros(m), np.full(m, float(upper))
+    lp.col_lower_, lp.col_upper_ = np.zeros(m), np.full(m, float(upper))  # never binding in the LP: duals sit on rows
     lp.row_lower_ = np.concatenate([np.zeros(n_flow), need, [float(lower)]])
     lp.row_upper_ = np.concatenate([np.zeros(n_flow), need, [float(upper)]])
     lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
@@ -497,10 +494,13 @@ def _run(model: _ArcModel, deadline: float):
 def arc_flow(lengths: Sequence[int], capacity: int, lower: int, upper: int, deadline: float) -> ArcFlowResult:
     """Minimise the bins of the arc-flow model (at most `upper`, at least the proved `lower`).
 
-    A graph past MAX_ARCS is not built: the result then has no bins and proves nothing.
+    Past MAX_MILP_ITEMS items or MAX_ARCS arcs nothing is built: the result then has no bins and
+    proves nothing.
     """
     import highspy
 
+    if len(lengths) > MAX_MILP_ITEMS:
+        return ArcFlowResult(None, float(lower), False, 0, 0)
     model = _arc_model(lengths, capacity, lower, upper, integral=True)
     if model is None or time.perf_counter() >= deadline:
         return ArcFlowResult(None, float(lower), False, 0 if model is None else len(model.arcs), 0)
