@@ -144,15 +144,41 @@ def test_any_item_weights_give_a_valid_bound(case):
     assert value is None or value <= cpsat_bins(lengths, capacity, len(lengths))
 
 
+def gilmore_gomory_lp(lengths, capacity) -> float:
+    """The LP relaxation over every feasible pattern (Gilmore & Gomory 1961), by scipy's linprog."""
+    from collections import Counter
+
+    from scipy.optimize import linprog
+
+    demand = Counter(lengths)
+    sizes = sorted(demand)
+    patterns = []
+
+    def extend(t, room, counts):
+        if t == len(sizes):
+            if any(counts):
+                patterns.append(list(counts))
+            return
+        for c in range(min(demand[sizes[t]], room // sizes[t]) + 1):
+            extend(t + 1, room - c * sizes[t], counts + [c])
+
+    extend(0, capacity, [])
+    a = [[-p[t] for p in patterns] for t in range(len(sizes))]
+    res = linprog([1.0] * len(patterns), A_ub=a, b_ub=[-demand[w] for w in sizes], bounds=(0, None), method="highs")
+    assert res.status == 0
+    return res.fun
+
+
 def test_lp_weight_bound_is_the_lp_bound_rounded_up():
-    # Falkenauer (1996) t60_00: sizes add to exactly 20 bins, so the LP bound is 20 (optimum 20 per
-    # the manifest); on random instances the LP bound lies between L2... and the CP-SAT optimum
+    # the exact LP bound must be the Gilmore-Gomory LP value rounded up, as an explicit-pattern LP
+    # in scipy computes it (an independent model); and never above the CP-SAT optimum
     rng = random.Random(11)
     for _ in range(15):
-        n, capacity = rng.randint(6, 14), rng.randint(20, 60)
-        lengths = [rng.randint(capacity // 5, capacity * 2 // 3) for _ in range(n)]
+        n, capacity = rng.randint(6, 12), rng.randint(15, 40)
+        lengths = [rng.randint(2, capacity * 2 // 3) for _ in range(n)]
         lp = b1.lp_weight_bound(lengths, capacity, time.perf_counter() + 10)
-        assert math.ceil(sum(lengths) / capacity) <= lp <= cpsat_bins(lengths, capacity, n)
+        assert lp == math.ceil(gilmore_gomory_lp(lengths, capacity) - 1e-6)
+        assert lp <= cpsat_bins(lengths, capacity, n)
 
 
 def test_proved_bound_when_the_containers_are_too_few(monkeypatch):
