@@ -257,30 +257,33 @@ def _box(rp: Replay, col: Colours, frame: Frame, c: Content, lo: Vec3, hi: Vec3,
         items.append(Poly(front, fill="none", stroke=palette.VIOLATION, width=2.5, dash="4 2", cls="violation"))
         items.append(Poly(top, fill="none", stroke=palette.VIOLATION, width=2.5, dash="4 2", cls="violation"))
     body = Group(items, attrs, box_title(rp, box_id, side))
-    labels: list[Item] = []
-    if step is not None:
-        t = face_label(str(step.number), top, obstacles, palette.text_colour(palette.mix(fill, "#FFFFFF", 0.35)), bold=True)
-        if t:
-            labels.append(t)
-    t = face_label(box_id, front, obstacles, palette.text_colour(fill))
-    if t:
-        labels.append(t)
-    return body, Group(labels, {**attrs, "class": "label"})
+    # the move number on the top face; where that is hidden, under the id on the front face
+    number = [] if step is None else face_label([(str(step.number), True)], top, obstacles,
+                                                 palette.text_colour(palette.mix(fill, "#FFFFFF", 0.35)))
+    ink = palette.text_colour(fill)
+    if step is not None and not number:
+        front_text = (face_label([(box_id, False), (str(step.number), True)], front, obstacles, ink)
+                      or face_label([(str(step.number), True)], front, obstacles, ink))
+    else:
+        front_text = face_label([(box_id, False)], front, obstacles, ink)
+    return body, Group(number + front_text, {**attrs, "class": "label"})
 
 
-def face_label(text: str, face: list[tuple[float, float]], obstacles: list, colour: str, bold: bool = False) -> Optional[Text]:
-    """`text` at the centre of a (convex) face, as large as fits inside it (13 px at most) and off
-    every obstacle polygon; None when under 7 px would be needed."""
+def face_label(lines: list[tuple[str, bool]], face: list[tuple[float, float]], obstacles: list, colour: str) -> list[Item]:
+    """Lines of text (text, bold) stacked at the centre of a (convex) face, as large as fits inside
+    it (13 px at most) and off every obstacle polygon; nothing when under 7 px would be needed."""
     cx, cy = sum(p[0] for p in face) / len(face), sum(p[1] for p in face) / len(face)
-    em = text_width(text, 1.0, bold)
+    em = max(text_width(text, 1.0, bold) for text, bold in lines)
     size = 13.0
     while size >= SMALLEST:
-        w, h = em * size + 2, size * LINE
+        w, h = em * size + 2, size * LINE * len(lines)
         box = [(cx - w / 2, cy - h / 2), (cx + w / 2, cy - h / 2), (cx + w / 2, cy + h / 2), (cx - w / 2, cy + h / 2)]
         if all(_inside(q, face) for q in box) and not any(_convex_overlap(box, o, 0.0) for o in obstacles if _near(box, o)):
-            return Text(cx, cy, text, size, colour, weight="bold" if bold else "normal")
+            top = cy - h / 2 + size * LINE / 2
+            return [Text(cx, top + n * size * LINE, text, size, colour, weight="bold" if bold else "normal")
+                    for n, (text, bold) in enumerate(lines)]
         size -= 0.5
-    return None
+    return []
 
 
 def _inside(q: tuple[float, float], poly: list[tuple[float, float]]) -> bool:
