@@ -300,3 +300,16 @@ def test_page_shows_one_height_mark_per_container_in_a_cut_picture(tmp_path):
             assert float(a["data-h"].split()[k]) == pytest.approx(heights.get(a["data-container"], 0.0))
     containers = {f"{m.container[0]}#{m.container[1]}" for m in plan.moves}
     assert shown == {c: 1 for c in containers}
+
+
+@pytest.mark.parametrize("which", ["flat100", "iso20"])
+def test_bold_labels_are_move_numbers_and_most_boxes_show_theirs(which, request):
+    """Every bold number on a box is that box's move number (from 1); in 3D a hidden top face moves
+    it to the front face, so most packed boxes still show theirs."""
+    inst, plan, root = request.getfixturevalue(which)
+    numbered = 0
+    for g in groups(root, "label", side="target"):
+        bold = [t.text for t in g.findall(NS + "text") if t.get("font-weight") == "bold"]
+        assert bold in ([], [g.get("data-step")])
+        numbered += bool(bold)
+    assert numbered >= 0.6 * len(plan.moves)
