@@ -17,10 +17,10 @@ claims a proof: the pipeline checks each plan and proves optimality only by meet
 lower bound. `proved_lower_bound` offers one: Martello-Toth L2, the arc-flow LP bound made exact
 with integer item weights, or the arc-flow optimum once an integer search refutes one bin fewer.
 
-Example:
-    >>> data = recognise(instance, problem)          # doctest: +SKIP
-    >>> data.lengths, data.capacity                   # doctest: +SKIP
-    ((419, 307, ...), 1000)
+Example (Falkenauer 1996, t60_00 from the published set, sizes scaled by 10 on loading):
+    >>> data = recognise(instance, prepare(instance))  # doctest: +SKIP
+    >>> data.lengths[:3], data.capacity, data.axis      # doctest: +SKIP
+    ((366, 268, 366), 1000, 0)
 """
 from __future__ import annotations
 
