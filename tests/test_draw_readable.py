@@ -164,11 +164,6 @@ def test_no_hash_numbering_and_containers_named_by_index(flat100):
         assert any(t.startswith(f"{m.container[0]}[{m.container[1]}]") for t in titles)
     legend = " ".join(t.text for t in root.iter(NS + "text") if t.get("class") in ("legend", "legend-note"))
     assert "move number" in legend and "type[index]" in legend
-    # move numbers on the picture are 1-based: each bold number is its box's move number
-    for g in groups(root, "label", side="target"):
-        for t in g.findall(NS + "text"):
-            if t.get("font-weight") == "bold":
-                assert t.text == g.get("data-step")
 
 
 def test_many_boxes_are_not_slivers_and_the_canvas_grows(flat300):
