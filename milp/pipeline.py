@@ -17,7 +17,7 @@ from instances.io import file_mode, instance_digest
 from instances.model import Instance, Plan, ProofStep, Provenance, Result, SolverInfo, TieBreak, relative_gap
 from instances.precedence import precedence_graph
 
-from . import backends, grid, special
+from . import backends, binpack1d, grid, special
 from .extract import extract_plan
 from .incumbent import Incumbent, best_incumbent
 from .model import build
@@ -159,14 +159,15 @@ class _Run:
         self.steps.append(ProofStep(claim, method, solver, confirmed_by,
                                     None if seconds is None else round(seconds, 3)))
 
-    def raise_bound(self, value: float, claim: str, method: str, *, solver_run: bool, seconds: float = 0.0) -> None:
+    def raise_bound(self, value: float, claim: str, method: str, *, solver_run: bool, seconds: float = 0.0,
+                    confirmed_by: Optional[str] = None) -> None:
         """Raise the proved bound to `value` (a confirmed step), recording how."""
         if value <= self.bound:
             return
         self.bound = value
         self.prove(claim, method,
                    solver=backends.backend_version(self.backend) if solver_run else None,
-                   confirmed_by=backends.confirmer(self.backend) if solver_run else "exact arithmetic",
+                   confirmed_by=confirmed_by or (backends.confirmer(self.backend) if solver_run else "exact arithmetic"),
                    seconds=seconds)
 
 
@@ -351,6 +352,27 @@ def _special_stage(run: _Run) -> None:
             return
 
 
+def _structure_bound(run: _Run) -> None:
+    """A bound that only a recognised structure gives: 1D bin packing (`milp.binpack1d`).
+
+    Martello-Toth L2, the arc-flow LP with exact integer weights, or the arc-flow optimum K,
+    which counts only when an exhaustive integer bin completion shows K - 1 bins cannot hold
+    the items: a wrong solver answer can only cost the bound, never make it wrong.
+    """
+    if run.closed() or run.instance.objective.minimise != "bins" or run.left() <= 0.05:
+        return
+    t0 = time.perf_counter()
+    got = binpack1d.proved_lower_bound(run.instance, run.problem, run.t0 + run.time_limit, upper=run.upper)
+    if got is None:
+        return
+    value, reason = got
+    run.bounds["1d-bins"] = float(value)
+    solver_step = "refuted by exhaustive bin completion" in reason or "cannot hold" in reason
+    run.raise_bound(value, "no plan exists" if math.isinf(value) else f"bins >= {value:g}", reason,
+                    solver_run=False, seconds=time.perf_counter() - t0,
+                    confirmed_by="exhaustive integer bin completion" if solver_step else "exact arithmetic")
+
+
 def _tips_stage(run: _Run) -> tuple[int, bool]:
     """Fewest tipped boxes among plans with the proved main optimum (a second, lexicographic solve)."""
     p = run.problem
@@ -452,6 +474,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
         if export_model:
             _export(p, run, export_model)
         _special_stage(run)
+        _structure_bound(run)
         run.report("special")
         if not run.closed() and run.left() > 0.05:
             if _use_decision(p):
@@ -473,6 +496,13 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
             return result("infeasible")
         return result("unknown", bound=run.bound)
     objective = run.best.report.objective
+    if run.bound > objective + max(1e-6, 1e-9 * abs(objective)):
+        # a proved bound above a checked plan: one of the proof steps is false; claim nothing
+        run.notes.append(f"a proof step claims {run.bound:g}, above the checked plan's {objective:g}: "
+                         "the proof is wrong, so no bound is reported")
+        run.steps.clear()
+        run.bound = 0.0
+        return result("error", objective=objective, plan=run.best.plan, checked=True)
     bound = min(run.bound, objective)
     status = "optimal" if run.closed() else "feasible"
     tiebreak = None
