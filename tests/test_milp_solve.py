@@ -260,6 +260,7 @@ def test_a_plan_the_checker_rejects_is_an_error(monkeypatch):
     inst = strip2d([Box("A", (1, 1), ("xy",)), Box("B", (1, 1), ("xy",))], 1)
     # make the greedy useless and the model's plan wrong (both boxes on the floor, overlapping)
     monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
+    monkeypatch.setattr(pipeline.special, "FINDERS", [])  # the perfect-packing search would solve it first
     bad = Plan("hand", (Move("A", ("strip", 0), "xy", (0, 0)), Move("B", ("strip", 0), "xy", (0, 0))))
     monkeypatch.setattr(pipeline, "extract_plan", lambda m: bad)
     r = solve(inst, time_limit=TL)
