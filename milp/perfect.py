@@ -7,18 +7,26 @@ in which orientation) reaches every perfect packing: the classic bottom-left-fil
 perfect rectangle packing (Lesh, Marks, McMahon & Mitzenmacher 2004, "Exhaustive approaches to
 2D rectangular perfect packings", Information Processing Letters 90).
 
-The filled region is kept as a skyline (segments of the top edge). Pruning, each sound for
-perfect packings only:
+The filled region is kept as a skyline (segments of the top edge). Every test below holds in
+every perfect packing that completes the state, so pruning never loses one:
 
-* a *well* (a segment whose neighbours are higher, or walls) is later covered by boxes standing
-  on its floor side by side, so its width must be a sum of widths of distinct remaining boxes;
-* above every segment the column up to H is stacked without gaps, so H minus its level must be a
-  sum of heights of distinct remaining boxes;
-* a state (skyline, boxes left) that failed once fails again (a dead-state table);
+* any *well* (a segment whose neighbours are higher, or walls) may be branched on, since its
+  bottom-left corner is a box corner in every completion; the well with the fewest fitting
+  boxes is taken (most constrained first);
+* at every skyline level each maximal empty run is tiled by the remaining boxes crossing that
+  height, so its width is a sum of widths of distinct remaining boxes; above every segment the
+  column up to H is stacked without gaps, so its headroom is a sum of their heights;
+* zero wasted space (after Korf's wasted-space bound): a cell whose empty run is a wide takes
+  only boxes at most a wide, so for every a the area of such cells is at most the area of those
+  boxes; likewise up the columns;
+* a state (skyline, boxes left) that failed once, or whose mirror image did, fails again
+  (a dead-state table, kept across restarts);
 * identical boxes are one kind with a count, so no two symmetric orders are both tried.
 
 Sums are bitsets in Python integers (bit s set when s is reachable; common practice for
-subset-sum tests). Rotation counts as one more allowed extent pair per box.
+subset-sum tests). Rotation counts as one more allowed extent pair per box. Runs restart with
+other value orderings on the Luby schedule; the search stays complete, so "none" means no
+perfect packing exists.
 
 `perfect_plans` is a plan finder for `milp.special`: it recognises a single 2D container (a
 strip or a closed one) with no source, integer sizes and a proved height bound the boxes fill
@@ -404,7 +412,7 @@ def perfect_plans(instance: Instance, problem: Problem, lower: float, deadline: 
     Yields at most one plan, moves bottom-up (so loading from above holds and every base is
     fully covered). Anything else yields nothing.
     """
-    spec = _recognise(instance, problem, lower)
+    spec = perfect_case(instance, problem, lower)
     if spec is None:
         return
     width, height, items = spec
@@ -414,8 +422,12 @@ def perfect_plans(instance: Instance, problem: Problem, lower: float, deadline: 
     yield _plan(problem, items, result.placements)
 
 
-def _recognise(instance: Instance, problem: Problem, lower: float):
-    """(width, target height, per box {orientation: (w, h)}) when the finder applies, else None."""
+def perfect_case(instance: Instance, problem: Problem, lower: float):
+    """(width, target height, per box {orientation: (w, h)}) when the finder applies, else None.
+
+    When `perfect_packing` on this case reports "none", no plan reaches the target height
+    (integer sizes: the search enumerates every perfect packing).
+    """
     if instance.dim != 2 or instance.source is not None or problem.infeasible_reason or len(problem.slots) != 1:
         return None
     slot = problem.slots[0]
