@@ -166,3 +166,17 @@ def test_base_fraction_counts_two_supporters_together():
     assert [m.box for m in got.plan.moves][-1] == "big"
     one = instance2d(rows[:2], 2, source=(2, None), support="base-fraction", fraction=1.0, access="none")
     assert solve_cpsat_rules(one, time_limit=LIMIT).status == "infeasible"
+
+
+def test_speed_comparison_flags_every_kind_of_contradiction():
+    # benchmarks.speed runs stackproof beside this oracle; its contradiction check must fire on
+    # different proved optima, a bound above the other's plan, and "infeasible" against a plan
+    from benchmarks.speed import contradictions
+
+    inst = CASES[0].instance
+    ok = {"status": "optimal", "objective": 2, "bound": 2}
+    assert contradictions(inst, {"a": ok, "b": dict(ok)}) == []
+    assert contradictions(inst, {"a": ok, "b": {"status": "optimal", "objective": 3, "bound": 3}})
+    assert contradictions(inst, {"a": ok, "b": {"status": "feasible", "objective": 4, "bound": 3}})
+    assert contradictions(inst, {"a": ok, "b": {"status": "infeasible", "objective": None, "bound": None}})
+    assert contradictions(inst, {"a": ok, "b": {"status": "unknown", "objective": None, "bound": 1}}) == []
