@@ -155,6 +155,19 @@ def test_every_checker_accepted_plan_is_a_model_solution(inst):
         assert got.objective == report.objective
 
 
+@pytest.mark.parametrize("dim,n", [(2, 20), (2, 40), (3, 16)])
+def test_benchmark_sized_drop_plans_are_model_solutions(dim, n):
+    # the speed benchmark's rule-heavy loads: the greedy drop plan, accepted by the checker,
+    # pinned into the model must be a solution there too (the model cuts off no plan at size)
+    from benchmarks.speed import make_instance
+
+    inst = make_instance("rules", dim, n, 0)
+    plan = drop_plan(inst)
+    report = check_plan(inst, plan)
+    assert report.feasible
+    got = solve_cpsat_rules(inst, time_limit=LIMIT, fixed=plan)
+    assert (got.status, got.objective) == ("optimal", report.objective)
+
 def test_base_fraction_counts_two_supporters_together():
     # hand-worked: `big` (2 x 1) lies under s1 and s2 (1 x 1 each) in a 2-wide source, so both
     # leave first and stand on the floor of the 2-wide target; `big` then needs both of them to
