@@ -173,7 +173,7 @@ def small_strips(draw) -> Instance:
                     name="small-strip")
 
 
-@drawn(40)
+@drawn(20)
 @given(small_strips())
 def test_milp_equals_cpsat_on_drawn_strips(inst):
     cp = strip_height_cpsat(inst, time_limit=60)
