@@ -95,6 +95,14 @@ _ORDERINGS = (
     lambda w, h, g, flush: (not (flush or w == g), -w * h),
     lambda w, h, g, flush: (-w * h, -h),
 )
+#: Well choices, in the same way (key parts for a well with `options` fitting boxes, level y, width g):
+#: most constrained first, or lowest first (the plain bottom-left-fill order), with other ties.
+_WELL_CHOICES = (
+    lambda options, y, g: (options, g, y),
+    lambda options, y, g: (y,),
+    lambda options, y, g: (options, y),
+    lambda options, y, g: (min(options, 2), y),
+)
 _RESTART_BASE = 1000  # nodes of the shortest run; runs follow the Luby sequence
 
 
@@ -130,7 +138,7 @@ def perfect_packing(width: int, height: int, items: Sequence[Sequence[Extents]],
                 limit = min(limit, node_limit - search.nodes)
                 if limit <= 0:
                     return PerfectSearch("stopped", (), search.nodes)
-            search.key = _ordering(run, rng, len(kinds))
+            search.key, search.well_key = _ordering(run, rng, len(kinds))
             outcome = search.attempt(counts, limit)
             if outcome is not None:
                 break
@@ -163,15 +171,16 @@ def _luby(i: int) -> int:
 
 
 def _ordering(run: int, rng: random.Random, kinds: int):
-    """The value ordering of restart `run`: the fixed ones first, then random prefixes with random ties."""
-    if run < len(_ORDERINGS):
-        fixed = _ORDERINGS[run]
-        return lambda k, w, h, g, flush: fixed(w, h, g, flush) + (k,)
+    """Value ordering and well choice of restart `run`: fixed pairs first, then random ones with random ties."""
+    well = _WELL_CHOICES[run % len(_WELL_CHOICES)]
+    if run < 2 * len(_ORDERINGS):
+        fixed = _ORDERINGS[run % len(_ORDERINGS)]
+        return (lambda k, w, h, g, flush: fixed(w, h, g, flush) + (k,)), well
     base = _ORDERINGS[rng.randrange(len(_ORDERINGS))]
     depth = rng.randint(1, 4)
     rank = list(range(kinds))
     rng.shuffle(rank)
-    return lambda k, w, h, g, flush: base(w, h, g, flush)[:depth] + (rank[k],)
+    return (lambda k, w, h, g, flush: base(w, h, g, flush)[:depth] + (rank[k],)), _WELL_CHOICES[rng.randrange(len(_WELL_CHOICES))]
 
 
 def _kinds(width: int, height: int, items: Sequence[Sequence[Extents]]) -> tuple[list[tuple[Extents, ...]], list[list[int]]]:
@@ -214,6 +223,7 @@ class _Search:
         self.nodes = 0
         self.stop_at = 0
         self.key = None
+        self.well_key = None
         self.dead: set = set()
         self.chosen: list[tuple[int, Extents, Extents]] = []
         self.widths = [tuple(sorted({w for w, _ in opts})) for opts in kinds]
@@ -268,7 +278,7 @@ class _Search:
         if well is None:
             self._remember(key)
             return False
-        i, options = well
+        i, options, _ = well
         x, _, y = segs[i]
         for k, (w, h) in options:
             child = list(counts)
@@ -285,12 +295,12 @@ class _Search:
             self.dead.add(key)
 
     def _branch_well(self, segs, counts, reach_w: int, reach_h: int):
-        """The well with the fewest fitting (kind, extents), with them best first; None when one has none.
+        """(segment, fitting (kind, extents) best first, rank) of the well to branch on; None when one has none.
 
         A fitting box leaves a remainder of the well's width that remaining widths can fill, and
         headroom above it that remaining heights can fill. Any well may be branched
-        on (its bottom-left corner is a box corner in every completion), so the most constrained
-        one is taken (ties: lowest, then leftmost).
+        on (its bottom-left corner is a box corner in every completion); the run's well choice
+        picks one (ties: leftmost).
         """
         n = len(segs)
         best = None
@@ -302,8 +312,9 @@ class _Search:
             options = self._candidates(counts, g, y, left, right, reach_w, reach_h)
             if not options:
                 return None
-            if best is None or (len(options), y) < (len(best[1]), segs[best[0]][2]):
-                best = (j, options)
+            rank = self.well_key(len(options), y, g)
+            if best is None or rank < best[2]:
+                best = (j, options, rank)
         return best
 
     def _room_fits(self, segs, counts, reach_w: int, reach_h: int) -> bool:
