@@ -288,6 +288,7 @@ def test_unknown_when_nothing_is_found(monkeypatch):
     from milp.backends import Outcome
 
     monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
+    monkeypatch.setattr(pipeline.special, "FINDERS", [])  # no special-structure plans either
     monkeypatch.setattr(pipeline.backends, "run", lambda *a, **k: Outcome("unknown", None, None, 0, 0.01))
     inst = strip2d([Box("A", (1, 1), ("xy",)), Box("B", (1, 1), ("xy",))], 1)
     r = solve(inst, time_limit=1.0)
