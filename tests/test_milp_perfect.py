@@ -18,6 +18,7 @@ from instances.checker import check_plan
 from instances.generate.cutting import cut_container
 from instances.generate.planted import planted_instance
 from instances.model import Box, ContainerType, Instance, Objective, Rules, Support
+from milp import perfect
 from milp.perfect import perfect_packing, perfect_plans
 from milp.problem import prepare
 from tests.oracles.cpsat import strip_height_cpsat
@@ -175,6 +176,28 @@ def test_perfect_packing_exists_exactly_when_cpsat_reaches_the_area_bound(case):
     theirs = strip_height_cpsat(_strip(sizes, width, turn=turn), time_limit=20.0)
     assert theirs.status == "optimal"
     assert ours.status == ("found" if theirs.height == height else "none"), (theirs.height, height)
+
+
+@settings(max_examples=30, deadline=None)
+@given(_rectangle_sets())
+def test_restarts_keep_the_search_complete(case):
+    """Runs of a few nodes each: many restarts with random orderings share the dead-state table,
+    and the answer must still agree with CP-SAT."""
+    width, sizes, turn = case
+    height = sum(w * h for w, h in sizes) // width
+    items = [[(w, h), (h, w)] if turn else [(w, h)] for w, h in sizes]
+    with pytest.MonkeyPatch.context() as patch:
+        patch.setattr(perfect, "_RESTART_BASE", 1)
+        ours = perfect_packing(width, height, items)
+    theirs = strip_height_cpsat(_strip(sizes, width, turn=turn), time_limit=20.0)
+    assert ours.status == ("found" if theirs.height == height else "none"), (theirs.height, height)
+    if ours.status == "found":
+        assert sum(p.extents[0] * p.extents[1] for p in ours.placements) == width * height
+
+
+def test_luby_sequence():
+    """Luby, Sinclair & Zuckerman (1993): 1, 1, 2, 1, 1, 2, 4, 1, 1, 2, 1, 1, 2, 4, 8 (recalled from memory)."""
+    assert [perfect._luby(i) for i in range(1, 16)] == [1, 1, 2, 1, 1, 2, 4, 1, 1, 2, 1, 1, 2, 4, 8]
 
 
 @pytest.mark.parametrize("seed", range(5))
