@@ -200,12 +200,11 @@ def _kinds(width: int, height: int, items: Sequence[Sequence[Extents]]) -> tuple
         usable = tuple(sorted({(w, h) for w, h in opts if w <= width and h <= height}, key=lambda e: (-e[0], -e[1])))
         if len({w * h for w, h in opts}) != 1:
             raise ValueError(f"item {i}: its extents {list(opts)} do not have one area")
-        key = usable
-        if key not in index:
-            index[key] = len(kinds)
+        if usable not in index:
+            index[usable] = len(kinds)
             kinds.append(usable)
             members.append([])
-        members[index[key]].append(i)
+        members[index[usable]].append(i)
     return kinds, members
 
 
