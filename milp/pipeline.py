@@ -132,6 +132,9 @@ class _Run:
         """
         if out.bound is None:
             return None
+        if self.interrupted:
+            self.notes.append(f"{what}: interrupted before the confirming solve; not used as a proof")
+            return None
         second = backends.confirm(lp, time_limit=max(0.1, self.left() + 0.5 * self.grace()), threads=self.threads,
                                   seed=self.seed, log=self.log, integral=integral)
         self._count(second)
