@@ -398,3 +398,26 @@ def test_falkenauer_triplets_proved_at_the_published_optimum():
         flow = b1.arc_flow(list(data.lengths), data.capacity, 0, len(data.slots), time.perf_counter() + 20)
         assert flow.proved and len(flow.bins) == inst.known.optimum
         assert math.ceil(flow.bound - 1e-6) == inst.known.optimum
+
+
+def test_solve_proves_optima_above_the_l2_bound():
+    # through the pipeline (milp.pipeline._structure_bound): where L2 falls short of CP-SAT's
+    # optimum, milp.solve must still prove it, and the certificate names the 1D step
+    import milp
+
+    rng = random.Random(3)
+    proved = 0
+    for _ in range(200):
+        n, capacity = rng.randint(8, 14), rng.randint(20, 60)
+        lengths = [rng.randint(capacity // 5, capacity * 2 // 3) for _ in range(n)]
+        if b1.lower_bound_l2(lengths, capacity) >= (best := cpsat_bins(lengths, capacity, n)):
+            continue
+        inst = one_d(lengths, capacity)
+        result = milp.solve(inst, time_limit=20)
+        assert result.status == "optimal" and result.objective == best, (lengths, capacity, result.notes)
+        step = next(s for s in result.provenance.proof if s.claim == f"bins >= {best}")
+        assert step.method.startswith("1D bin packing") and step.confirmed_by
+        proved += 1
+        if proved == 3:
+            break
+    assert proved == 3
