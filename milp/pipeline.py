@@ -209,8 +209,9 @@ def _lower_bounds(run: _Run) -> None:
         name = max(named, key=lambda k: named[k]) if named else "?"
         kind = run.instance.objective.minimise
         claim = "no plan exists" if math.isinf(value) else f"{kind} >= {value:g}"
-        how = ("HiGHS with presolve on and off, the weaker dual bound" if name == "contiguous"
-               else "exact arithmetic" if name != "bar" else "weak duality on the LP duals (Farley 1990)")
+        how = {"contiguous": "HiGHS with presolve on and off, the weaker dual bound",
+               "bar": "weak duality on the LP duals (Farley 1990)",
+               "type-sum": "per-type bounds summed, each confirmed as its kind is"}.get(name, "exact arithmetic")
         run.bound = value
         run.prove(claim, f"lower bound '{name}' (bounds package)", confirmed_by=how)
 
