@@ -36,7 +36,7 @@ class Problem:
     ext: list[dict[str, tuple]]  # box -> orientation -> oriented extents (fitting ones only)
     slots: list[Slot]
     slots_of: list[list[int]]  # box -> slot indices it may go to
-    before: set[tuple[int, int]]  # (j, i): j must leave the source before i (lift closure)
+    before: set[tuple[int, int]]  # (j, i): j must leave the source before i (lift and forced side orders, closed)
     touching: list[dict[str, frozenset]]  # box -> face -> boxes that touch that face
     blocked: list[frozenset]  # box -> wall-blocked faces
     integral: bool  # integer positions and integer sizes: positions on the unit grid
@@ -113,6 +113,44 @@ def _precedence(instance: Instance, n: int, index: dict[str, int], graph: Option
     return before, touching, blocked
 
 
+def forced_face(orientations: dict, blocked: frozenset) -> Optional[str]:
+    """The one face a box must have free in every plan, or None.
+
+    When every usable orientation tips the box and, over all of them, only one grip face is
+    not against a wall, every plan grips the box by that face: it must be free when the box
+    is moved (PROBLEM.md section 3).
+    """
+    faces = set()
+    for o in orientations:
+        grip = grip_needed(o)
+        if grip is None:
+            return None
+        faces.update(f for f in FACES_OF_GRIP[grip] if f not in blocked)
+    return next(iter(faces)) if len(faces) == 1 else None
+
+
+def _close_with_forced_faces(before: set, ext: list, touching: list, blocked: list,
+                             ids: list) -> tuple[set, Optional[str]]:
+    """Lift orders plus the side orders every plan obeys (`forced_face`), transitively closed.
+
+    A cycle means two boxes must each leave before the other: no plan exists (the reason).
+    """
+    forced = {(j, i) for i in range(len(ext)) if (f := forced_face(ext[i], blocked[i])) is not None
+              for j in touching[i].get(f, ())}
+    if forced <= before:
+        return before, None
+    g = nx.DiGraph()
+    g.add_nodes_from(range(len(ext)))
+    g.add_edges_from(before | forced)
+    try:
+        cycle = nx.find_cycle(g)
+    except nx.NetworkXNoCycle:
+        return set(nx.transitive_closure_dag(g).edges()), None
+    names = " -> ".join(repr(ids[u]) for u, _ in cycle) + f" -> {ids[cycle[0][0]]!r}"
+    return before, (f"boxes must leave the source in a circle ({names}): each is under the next in the "
+                    "lift column or blocks the only face by which the next can be gripped for its tip")
+
+
 def prepare(instance: Instance, graph: Optional[nx.DiGraph] = None) -> Problem:
     """Index the instance, drop orientations that can never be used, close lift orders.
 
@@ -162,6 +200,8 @@ def prepare(instance: Instance, graph: Optional[nx.DiGraph] = None) -> Problem:
                 reason = f"box {box.id!r} fits no allowed container ({names}) in any allowed orientation"
         ext.append(fitting)
         slots_of.append(allowed_slots)
+    if reason is None:
+        before, reason = _close_with_forced_faces(before, ext, touching, blocked, ids)
 
     integral = instance.rules.integer_positions and all(
         _is_int(s) for b in instance.boxes for s in b.size
