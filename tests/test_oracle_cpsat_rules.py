@@ -93,16 +93,6 @@ def test_equals_exhaustive_fewest_tips_second(inst):
     assert_same_optimum(inst)
 
 
-@pytest.mark.parametrize("case", CASES, ids=lambda c: c.name)
-def test_hand_worked_table(case):
-    got = solve_cpsat_rules(case.instance, time_limit=LIMIT)
-    assert got.status == case.status, case.why
-    if case.status == "optimal":
-        assert got.objective == case.objective, case.why
-        if case.tips is not None:
-            assert got.tips == case.tips, case.why
-
-
 def test_formats_worked_example_has_optimum_five_with_one_tip():
     # FORMATS.md "Instance": optimum 5 with crate-a tipped (argued by hand there), integer positions
     doc = dict(FORMATS_INSTANCE, rules=dict(FORMATS_INSTANCE["rules"], integer_positions=True))
