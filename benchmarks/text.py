@@ -7,6 +7,8 @@ from __future__ import annotations
 
 from typing import Optional
 
+from instances.draw.views import plural  # noqa: F401  (one wording for pictures and the command line)
+
 
 def percent(gap: Optional[float]) -> str:
     """A gap (a fraction, as in FORMATS.md) in percent with two decimals; `-` when there is none."""
@@ -16,11 +18,6 @@ def percent(gap: Optional[float]) -> str:
 def number(x: Optional[float]) -> str:
     """A value as `%g`; `-` when there is none."""
     return "-" if x is None else f"{x:g}"
-
-
-def plural(n: int, word: str, words: Optional[str] = None) -> str:
-    """`1 violation`, `2 violations` (`words` for irregular plurals)."""
-    return f"{n} {word if n == 1 else (words or word + 's')}"
 
 
 def violation_text(v) -> str:
