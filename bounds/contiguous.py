@@ -24,6 +24,7 @@ ending at level 3: the contiguous relaxation gives 4, the optimum.
 from __future__ import annotations
 
 import math
+import time
 from typing import Optional
 
 import networkx as nx
@@ -46,13 +47,15 @@ def contiguous_bound(view: View, lower: float = 0.0, time_limit: float = TIME_LI
     if inst.dim != 2 or inst.objective.minimise != "height" or not view.integral_heights:
         return None
     best: Optional[tuple[float, str]] = None
-    for ctype in inst.containers:
-        if ctype.count != 1:
-            continue
-        boxes = [b for b in inst.boxes if view.single_container(b) is ctype]
-        if len(boxes) < 2:
-            continue
-        got = _one_container(view, ctype, boxes, lower, time_limit)
+    deadline = time.perf_counter() + time_limit
+    todo = [(ctype, [b for b in inst.boxes if view.single_container(b) is ctype])
+            for ctype in inst.containers if ctype.count == 1]
+    todo = [(ctype, boxes) for ctype, boxes in todo if len(boxes) >= 2]
+    for k, (ctype, boxes) in enumerate(todo):
+        share = (deadline - time.perf_counter()) / (len(todo) - k)  # the time left, shared by the containers left
+        if share <= 0.01:
+            break
+        got = _one_container(view, ctype, boxes, lower, share)
         if got is not None and (best is None or got[0] > best[0]):
             best = got
     return best
@@ -166,8 +169,8 @@ def _solve(A, cost, var_lb, var_ub, row_lb, row_ub, continuous: int, time_limit:
     A solver's bound counts only when an independent second solve confirms it: the weaker of
     the two dual bounds is kept, and none when either run ends without one.
     """
-    first = _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous, time_limit, presolve=True)
-    second = _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous, time_limit, presolve=False)
+    first = _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous, time_limit / 2, presolve=True)
+    second = _solve_once(A, cost, var_lb, var_ub, row_lb, row_ub, continuous, time_limit / 2, presolve=False)
     if first[1] is None or second[1] is None:
         return "limit", None
     status = "optimal" if first[0] == second[0] == "optimal" else "limit"
