@@ -13,7 +13,7 @@ import pytest
 import milp
 from instances.checker import check_plan
 from instances.io import instance_digest, result_from_dict, result_to_dict
-from milp import backends
+from milp import backends, heightmap
 from tests.oracles.exhaustive import solve_exhaustive
 from tests.oracles.handworked import CASES
 
@@ -30,11 +30,13 @@ def lying_first_solve(monkeypatch):
         return real(lp, **kw)
 
     monkeypatch.setattr(backends, "run", liar)
+    monkeypatch.setattr(heightmap, "applies", lambda p: False)  # the model, not the exact search, must answer
 
 
 def quitting_confirmation(monkeypatch):
     """The confirming solve never finishes."""
     monkeypatch.setattr(backends, "confirm", lambda lp, **kw: backends.Outcome("unknown", None, None, 0, 0.0))
+    monkeypatch.setattr(heightmap, "applies", lambda p: False)  # the model, not the exact search, must answer
 
 
 def test_a_wrong_infeasible_is_caught_by_the_second_solve(monkeypatch):

@@ -261,6 +261,7 @@ def test_a_plan_the_checker_rejects_is_an_error(monkeypatch):
     # make the greedy useless and the model's plan wrong (both boxes on the floor, overlapping)
     monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
     monkeypatch.setattr(pipeline.special, "FINDERS", [])  # the perfect-packing search would solve it first
+    monkeypatch.setattr(pipeline.heightmap, "applies", lambda p: False)  # and so would the height-map search
     bad = Plan("hand", (Move("A", ("strip", 0), "xy", (0, 0)), Move("B", ("strip", 0), "xy", (0, 0))))
     monkeypatch.setattr(pipeline, "extract_plan", lambda m: bad)
     r = solve(inst, time_limit=TL)
@@ -289,6 +290,7 @@ def test_unknown_when_nothing_is_found(monkeypatch):
 
     monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
     monkeypatch.setattr(pipeline.special, "FINDERS", [])  # no special-structure plans either
+    monkeypatch.setattr(pipeline.heightmap, "applies", lambda p: False)  # nor height-map searches
     monkeypatch.setattr(pipeline.backends, "run", lambda *a, **k: Outcome("unknown", None, None, 0, 0.01))
     inst = strip2d([Box("A", (1, 1), ("xy",)), Box("B", (1, 1), ("xy",))], 1)
     r = solve(inst, time_limit=1.0)

@@ -161,3 +161,25 @@ def mixed_instances(dim: Optional[int] = None) -> st.SearchStrategy[Instance]:
     """Tiny instances with two container types of different sizes, boxes free to go to either or
     bound to one: where a big-M taken over one container type would cut off plans in the other."""
     return tiny_instances(dim=dim, type_counts=(2,), distinct_sizes=True)
+
+
+@st.composite
+def split_instances(draw, dim: Optional[int] = None, rules_bite: bool = False) -> Instance:
+    """Tiny instances where every box is bound to one container: one to three container types of
+    one container each, every box with a target (the container decomposition of `milp.split`).
+    With `rules_bite`, a source, loading from above and a support rule (where `milp.heightmap`
+    searches), else any rules."""
+    import dataclasses
+
+    base = binding_instances(dim) if rules_bite else tiny_instances(dim=dim, objectives=("height", "height-sum"))
+    inst = draw(base)
+    n_types = draw(st.integers(1, 3))
+    containers = []
+    for t in range(n_types):
+        kind = inst.containers[t % len(inst.containers)]
+        if t >= len(inst.containers):
+            kind = dataclasses.replace(kind, size=(kind.size[0] + 1, *kind.size[1:]))
+        containers.append(dataclasses.replace(kind, id=f"c{t}", count=1))
+    boxes = tuple(dataclasses.replace(b, target=draw(st.sampled_from([c.id for c in containers])))
+                  for b in inst.boxes)
+    return dataclasses.replace(inst, boxes=boxes, containers=tuple(containers), name="tiny-split")

@@ -1,0 +1,305 @@
+"""Exhaustive search over loading sequences of one container on a height map (loading from above).
+
+With loading `from-above`, a support rule other than `none` and integer positions on integer
+data, a box's place in a container is fixed by the order of the moves and the box's orientation
+and horizontal cell: it sits on the highest box under its footprint (PROBLEM.md section 4).
+Everything the rules need later is then in the *height map*, the top of each unit column of the
+container: a box lowered onto it passes nothing (its bottom is the highest top under it), and its
+supporters are exactly the columns of its footprint at that height. So the state after some moves
+is (the boxes moved, the height map), and whether the remaining boxes can still follow depends on
+that state alone.
+
+`search` walks the moves depth first from the empty container, remembers every state that failed
+(a transposition table: other orders of the same moves reach it again), and cuts a state when the
+free cells that some remaining box could still reach hold less than the remaining boxes' volume,
+or when some remaining box has no move left under the height limit (both only grow worse as more
+boxes are moved). It answers a plan, "none" (every sequence was tried: an exact proof, in integer
+arithmetic), or nothing when its budget runs out. It is used on one container's part of a problem
+(`milp.split`), where the part's source orders and grip faces come from `Problem`.
+
+Example:
+    >>> found = search(part.problem, height=12, deadline=time.perf_counter() + 5)  # doctest: +SKIP
+    >>> found.status, found.plan                                                    # doctest: +SKIP
+"""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+from itertools import product
+from typing import Optional
+
+from instances.model import FACES_OF_GRIP, Move, Plan, grip_needed
+
+from .problem import Problem
+
+
+@dataclass(frozen=True)
+class Found:
+    """`status`: "plan" (a sequence within the height, in `plan`), "none" (proved: no sequence), or
+    "unknown" (the deadline or the state budget ran out); `states`: states expanded."""
+
+    status: str
+    plan: Optional[Plan] = None
+    states: int = 0
+
+
+def applies(p: Problem) -> bool:
+    """One container, loading from above, a support rule, integer positions on integer data."""
+    rules = p.instance.rules
+    return (len(p.slots) == 1 and p.integral and rules.integer_positions and rules.loading == "from-above"
+            and rules.support.rule != "none")
+
+
+@dataclass(frozen=True)
+class _Place:
+    """One possible move: a box, an orientation, a horizontal cell, and the columns it covers."""
+
+    box: int
+    orientation: str
+    at: tuple[int, ...]
+    height: int
+    cells: tuple[int, ...]
+    centre: tuple[int, ...]  # the columns whose closed top face holds the base's centre point
+    corners: tuple[int, ...]  # the columns under the base's corners
+
+
+def _places(p: Problem, size: tuple[int, ...]) -> list[list[_Place]]:
+    """Every move of every box into a container of horizontal `size` (columns numbered row-major)."""
+    d = len(size)
+    out = []
+    for i in range(p.n):
+        mine = []
+        for o, ext in p.ext[i].items():
+            e = [int(v) for v in ext]
+            if any(e[a] > size[a] for a in range(d)):
+                continue
+            for at in product(*(range(size[a] - e[a] + 1) for a in range(d))):
+                def col(c: tuple[int, ...]) -> int:
+                    return c[0] if d == 1 else c[0] * size[1] + c[1]
+                cells = tuple(col(c) for c in product(*(range(at[a], at[a] + e[a]) for a in range(d))))
+                # the centre point at + e/2: on a cell boundary when e is even, inside a cell when odd
+                mid = [(at[a] + e[a] // 2 - 1, at[a] + e[a] // 2) if e[a] % 2 == 0 else (at[a] + e[a] // 2,)
+                       for a in range(d)]
+                centre = tuple(sorted({col(c) for c in product(*mid)}))
+                ends = [(at[a], at[a] + e[a] - 1) for a in range(d)]
+                corners = tuple(sorted({col(c) for c in product(*ends)}))
+                mine.append(_Place(i, o, tuple(at), e[-1], cells, centre, corners))
+        out.append(mine)
+    return out
+
+
+def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000) -> Found:
+    """Every loading sequence of `p`'s one container with packed height <= `height`, until one is found.
+
+    `p` must satisfy `applies`. The answer "none" is exact: every move the rules allow was tried
+    from every state not already shown to fail.
+    """
+    slot = p.slots[0]
+    size = tuple(int(s) for s in slot.size[:-1])
+    top = height if slot.size[-1] is None else min(height, int(slot.size[-1]))
+    rules = p.instance.rules
+    places = _places(p, size)
+    n = p.n
+    ncols = 1
+    for s in size:
+        ncols *= s
+    volume = [min(int(_prod(e)) for e in p.ext[i].values()) for i in range(n)]
+    min_height = [min(int(e[-1]) for e in p.ext[i].values()) for i in range(n)]
+    preds = [sum(1 << j for j in range(n) if (j, i) in p.before) for i in range(n)]
+    grip_masks = _grip_masks(p)
+    rule = rules.support.rule
+    fraction = rules.support.min_fraction or 0.0
+    twin_of = _twins(p, preds, grip_masks)
+    under = _must_lie_below(p, size)
+    topo = _topological(p)
+    mirrors = _mirrors(size)
+    failed: set = set()
+    counter = [0]
+    stop = [False]
+
+    def supported(pl: _Place, hm: tuple, rest: int) -> bool:
+        if rest == 0:
+            return True
+        if rule == "center":
+            return any(hm[c] == rest for c in pl.centre)
+        if rule == "corners":
+            return all(hm[c] == rest for c in pl.corners)
+        covered = sum(1 for c in pl.cells if hm[c] == rest)
+        return covered + 1e-6 * len(pl.cells) >= fraction * len(pl.cells)
+
+    def moves(gone: int, hm: tuple) -> Optional[list]:
+        """The moves allowed now, or None when a cut shows the state cannot be completed."""
+        out = []
+        reach = [False] * ncols
+        left = 0
+        lowest_top = [0] * n  # the lowest top each remaining box can have from here
+        lowest_rest = [0] * n
+        for i in range(n):
+            if gone >> i & 1:
+                continue
+            left += volume[i]
+            can_reach = False
+            lowest_top[i] = lowest_rest[i] = top + 1
+            ready = preds[i] & ~gone == 0 and (twin_of[i] is None or gone >> twin_of[i] & 1)
+            for pl in places[i]:
+                rest = max(hm[c] for c in pl.cells)
+                if rest + pl.height > top:
+                    continue
+                can_reach = True
+                lowest_top[i] = min(lowest_top[i], rest + pl.height)
+                lowest_rest[i] = min(lowest_rest[i], rest)
+                for c in pl.cells:
+                    reach[c] = True
+                if ready and _tip_free(grip_masks[i], pl.orientation, gone) and supported(pl, hm, rest):
+                    out.append((rest + pl.height, rest, pl))
+            if not can_reach:
+                return None  # this box can no longer go anywhere below the limit
+        free = sum(top - hm[c] for c in range(ncols) if reach[c])
+        if free < left:
+            return None
+        # chains of boxes that must lie one on another (loaded in source order, never side by side)
+        for i in topo:
+            if gone >> i & 1 or not under[i]:
+                continue
+            floor = max((lowest_top[j] for j in under[i] if not gone >> j & 1), default=0)
+            if floor > lowest_rest[i]:
+                lowest_top[i] = max(lowest_top[i], floor + min_height[i])
+                if lowest_top[i] > top:
+                    return None
+        out.sort(key=lambda t: (t[0], t[1], t[2].at))
+        return out
+
+    path: list = []
+
+    def walk(gone: int, hm: tuple) -> bool:
+        if gone == (1 << n) - 1:
+            return True
+        key = (gone, min(tuple(hm[c] for c in m) for m in mirrors))
+        if key in failed:
+            return False
+        counter[0] += 1
+        if counter[0] % 512 == 0 and (time.perf_counter() > deadline or counter[0] > max_states):
+            stop[0] = True
+        if stop[0]:
+            return False
+        options = moves(gone, hm)
+        for _, rest, pl in options or ():
+            new = list(hm)
+            for c in pl.cells:
+                new[c] = rest + pl.height
+            path.append((pl, rest))
+            if walk(gone | 1 << pl.box, tuple(new)):
+                return True
+            path.pop()
+            if stop[0]:
+                return False
+        failed.add(key)
+        return False
+
+    import sys
+    old = sys.getrecursionlimit()
+    sys.setrecursionlimit(max(old, 10 * n + 100))
+    try:
+        ok = walk(0, (0,) * ncols)
+    finally:
+        sys.setrecursionlimit(old)
+    if ok:
+        moves_ = tuple(Move(p.ids[pl.box], (slot.type_id, slot.index), pl.orientation,
+                            tuple(float(a) for a in pl.at) + (float(rest),), grip_needed(pl.orientation))
+                       for pl, rest in path)
+        return Found("plan", Plan(instance=p.instance.name, moves=moves_), counter[0])
+    return Found("unknown" if stop[0] else "none", None, counter[0])
+
+
+def _prod(e) -> float:
+    v = 1.0
+    for x in e:
+        v *= x
+    return v
+
+
+def _must_lie_below(p: Problem, size: tuple[int, ...]) -> list[list[int]]:
+    """For each box, the boxes that lie wholly under it in every plan of this one container.
+
+    Box j leaves the source before box i and the two cannot stand side by side in any pair of
+    orientations (their extents along some horizontal axis never sum to at most the container's),
+    so their footprints overlap; loaded first, j lies under i's bottom (loading from above).
+    """
+    def beside(i: int, j: int) -> bool:
+        return any(a[k] + b[k] <= size[k] for a in p.ext[i].values() for b in p.ext[j].values()
+                   for k in range(len(size)))
+
+    return [[j for j in range(p.n) if (j, i) in p.before and not beside(i, j)] for i in range(p.n)]
+
+
+def _topological(p: Problem) -> list[int]:
+    """The boxes in an order where every box comes after the boxes that leave the source before it."""
+    count = [sum(1 for j in range(p.n) if (j, i) in p.before) for i in range(p.n)]
+    return sorted(range(p.n), key=lambda i: (count[i], i))
+
+
+def _mirrors(size: tuple[int, ...]) -> list[tuple[int, ...]]:
+    """The column permutations of the container's mirror images (left-right, and front-back in 3D).
+
+    Every rule inside a container is unchanged by a mirror, and nothing in the source looks at
+    positions, so a state and its mirror image can be completed alike: the table keeps one.
+    """
+    if len(size) == 1:
+        w = size[0]
+        return [tuple(range(w)), tuple(reversed(range(w)))]
+    w, d = size
+    out = []
+    for fx, fy in product((False, True), repeat=2):
+        out.append(tuple((w - 1 - x if fx else x) * d + (d - 1 - y if fy else y) for x in range(w) for y in range(d)))
+    return out
+
+
+def _twins(p: Problem, preds: list[int], grips: list[dict[str, list[int]]]) -> list[Optional[int]]:
+    """For each box, an interchangeable box of lower index that must go first, or None.
+
+    Two boxes are interchangeable when they have the same usable orientations and extents, the
+    same wall-blocked faces, the same boxes before them and touching them, neither is ordered
+    before or touches the other, and every other box sees them alike: swapping their names maps
+    plans to plans, so the search keeps the plans where the lower index goes first.
+    """
+    n = p.n
+    out: list[Optional[int]] = [None] * n
+
+    def swap(mask: int, i: int, j: int) -> int:
+        bi, bj = mask >> i & 1, mask >> j & 1
+        mask &= ~(1 << i | 1 << j)
+        return mask | bj << i | bi << j
+
+    for j in range(n):
+        for i in reversed(range(j)):
+            if p.ext[i] != p.ext[j] or p.blocked[i] != p.blocked[j] or preds[i] != preds[j]:
+                continue
+            if grips[i] != grips[j] or any(preds[i] >> k & 1 for k in (i, j)):
+                continue
+            if any(m >> k & 1 for g in grips[i].values() for m in g for k in (i, j)):
+                continue
+            if all(k in (i, j) or (swap(preds[k], i, j) == preds[k]
+                                   and all(swap(m, i, j) == m for g in grips[k].values() for m in g))
+                   for k in range(n)):
+                out[j] = i
+                break
+    return out
+
+
+def _grip_masks(p: Problem) -> list[dict[str, list[int]]]:
+    """Per box and grip, the masks of the boxes touching each face that may be gripped."""
+    out = []
+    for i in range(p.n):
+        per = {}
+        for grip, faces in FACES_OF_GRIP.items():
+            per[grip] = [sum(1 << j for j in p.touching[i].get(f, ())) for f in faces if f not in p.blocked[i]]
+        out.append(per)
+    return out
+
+
+def _tip_free(masks: dict[str, list[int]], orientation: str, gone: int) -> bool:
+    """Upright, or some grip face of the tip has every touching box gone."""
+    grip = grip_needed(orientation)
+    if grip is None:
+        return True
+    return any(m & ~gone == 0 for m in masks[grip])

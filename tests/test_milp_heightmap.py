@@ -1,0 +1,81 @@
+"""The height-map search (`milp.heightmap`) against independent references.
+
+- the exhaustive oracle (`tests.oracles.exhaustive`, its own reading of PROBLEM.md) on drawn tiny
+  one-container instances where the search applies (a source, loading from above, a support
+  rule): at the oracle's optimum the search finds a plan the checker accepts, one unit lower it
+  says "none"; on instances the oracle proves infeasible it says "none" at every height;
+- OR-Tools CP-SAT (`tests.oracles.cpsat_rules`, a whole-problem model) on generated rule-heavy
+  loads of 8 boxes in 2D and 6 in 3D: the same two facts at CP-SAT's proved optimum.
+"""
+from __future__ import annotations
+
+import dataclasses
+
+import pytest
+from hypothesis import given
+
+from instances.checker import check_plan
+from instances.generate import random_instance
+from milp import heightmap, split
+from milp.pipeline import _safe_cap
+from milp.problem import prepare
+from tests.oracles.cpsat_rules import solve_cpsat_rules
+from tests.oracles.tiny import binding_instances
+from tests.test_milp_split import oracle_optimum
+from tests.test_milp_vs_oracles import drawn
+
+
+def one_container(inst):
+    kind = dataclasses.replace(inst.containers[0], count=1)
+    boxes = tuple(dataclasses.replace(b, target=None) for b in inst.boxes)
+    return dataclasses.replace(inst, containers=(kind,), boxes=boxes)
+
+
+def answer(inst, height: int):
+    """The search's answer on the instance's one container, with its plan as a plan of the instance."""
+    p = prepare(inst)
+    (part,) = split.parts(p)
+    assert heightmap.applies(part.problem)
+    found = heightmap.search(part.problem, height, deadline=float("inf"))
+    plan = split.merge(p, [(part, found.plan)]) if found.status == "plan" else None
+    return found.status, plan
+
+
+def assert_exact_at(inst, optimum: int) -> None:
+    status, plan = answer(inst, optimum)
+    assert status == "plan"
+    assert plan is not None, "the search's sequence must merge into a plan"
+    report = check_plan(inst, plan)
+    assert report.feasible, [str(v) for v in report.violations]
+    assert report.objective <= optimum
+    if optimum > 0:
+        assert answer(inst, optimum - 1)[0] == "none"
+
+
+@drawn(150)
+@given(inst=binding_instances())
+def test_search_agrees_with_exhaustive_oracle(inst):
+    inst = one_container(inst)
+    if inst.objective.minimise != "height":
+        inst = dataclasses.replace(inst, objective=dataclasses.replace(inst.objective, minimise="height"))
+    p = prepare(inst)
+    if p.infeasible_reason is not None:
+        return
+    got = oracle_optimum(inst)
+    if got is None:
+        return
+    if got.status == "infeasible":
+        top = p.slots[0].size[-1]
+        assert answer(inst, int(top if top is not None else _safe_cap(p)))[0] == "none"
+        return
+    assert_exact_at(inst, int(got.objective))
+
+
+@pytest.mark.parametrize("dim,n,seed", [(2, 8, s) for s in range(4)] + [(3, 6, s) for s in range(3)])
+def test_search_agrees_with_cpsat(dim, n, seed):
+    inst = random_instance(dim, n, seed, size_class="uniform", width=6 if dim == 2 else 4, source_ratio=1.5,
+                           targets=1, must_tip=0.2, flush=0.5, drop_order="large-first", support="center",
+                           integer_positions=True, name=f"hm-{dim}d-{n}-{seed}")
+    ref = solve_cpsat_rules(inst, time_limit=60)
+    assert ref.status == "optimal"
+    assert_exact_at(inst, int(ref.objective))

@@ -1,0 +1,97 @@
+"""The container decomposition (`milp.split`): each part is a relaxation, and merged plans pass the checker.
+
+A part proves bounds for the whole instance only if every checked plan of the whole, cut down to
+the part's boxes, is a plan of the part. Here the plans come from the exhaustive oracle
+(`tests.oracles.exhaustive`): each, restricted to each part, is written into the part's model
+(`milp.embed`) and must be a solution; the height-map search must not call the part empty at that
+height. The solver, which uses the decomposition on these draws, must agree with the oracle.
+"""
+from __future__ import annotations
+
+import dataclasses
+
+from hypothesis import given
+from hypothesis import strategies as st
+
+import milp
+from instances.checker import check_plan
+from instances.model import Plan
+from milp import backends, heightmap, split
+from milp.embed import canonical, fix, plan_values
+from milp.model import build
+from milp.problem import prepare
+from tests.oracles.exhaustive import NotExact, TooLarge, solve_exhaustive
+from tests.oracles.tiny import split_instances
+from tests.test_milp_vs_oracles import TIME_LIMIT, assert_agrees, drawn
+
+
+def restricted(plan: Plan, part: split.Part) -> Plan:
+    """The plan's moves of the part's boxes, in order, into the part's one container."""
+    q = part.problem
+    ids = set(q.ids)
+    slot = q.slots[0]
+    return Plan(q.instance.name, tuple(dataclasses.replace(m, container=(slot.type_id, 0))
+                                       for m in plan.moves if m.box in ids))
+
+
+def part_height(plan: Plan, part: split.Part) -> float:
+    q = part.problem
+    return max((m.at[-1] + q.ext[q.ids.index(m.box)][m.orientation][-1] for m in plan.moves), default=0.0)
+
+
+def oracle_optimum(inst):
+    try:
+        return solve_exhaustive(inst, max_nodes=300_000)
+    except (NotExact, TooLarge):
+        return None
+
+
+@drawn(80)
+@given(inst=st.one_of(split_instances(dim=2), split_instances(dim=3), split_instances(rules_bite=True)))
+def test_every_checked_plan_lies_in_every_part(inst):
+    got = oracle_optimum(inst)
+    if got is None or got.status != "optimal":
+        return
+    p = prepare(inst)
+    assert split.applies(p)
+    for part in split.parts(p):
+        sub = restricted(got.plan, part)
+        h = part_height(sub, part)
+        m = build(part.problem, vcap=h, lower=0.0, upper=h, goal="feasible")
+        if m.exact:
+            fix(m, plan_values(m, canonical(m, sub)))
+            out = backends.run(m.lp, time_limit=30, integral=True)
+            assert out.status in ("optimal", "feasible"), (part.slot, out.status)
+        if heightmap.applies(part.problem):
+            found = heightmap.search(part.problem, int(h), deadline=float("inf"))
+            assert found.status == "plan", (part.slot, h, found.status)
+
+
+@drawn(80)
+@given(inst=st.one_of(split_instances(dim=2), split_instances(dim=3), split_instances(rules_bite=True)))
+def test_solver_with_decomposition_agrees_with_oracle(inst):
+    got = oracle_optimum(inst)
+    if got is None:
+        return
+    result = milp.solve(inst, time_limit=TIME_LIMIT)
+    assert_agrees(inst, result, got, require_proof=False)
+
+
+def test_merge_refuses_parts_that_need_a_circular_order():
+    """Two containers whose plans each need the other's box first: no sequence, so no plan.
+
+    Source (2D, 2 wide): a over b in one column, c over d in another... here b (container L) must
+    go in before a (on top of it in L), while the source takes a out first: a circle."""
+    from instances.model import Box, ContainerType, Instance, Move, Objective, Rules, Source, Support
+
+    boxes = (Box("a", (1, 1), ("xy",), (0, 1), "L"), Box("b", (1, 1), ("xy",), (0, 0), "L"))
+    inst = Instance(2, boxes, (ContainerType("L", (1, None), 1),), Source((1, None)),
+                    Rules(support=Support("center")), Objective("height"), name="circle")
+    p = prepare(inst)
+    (part,) = split.parts(p)
+    # b below a in the container: b must go in first, but a is above b in the source
+    plan = Plan("circle", (Move("b", ("L", 0), "xy", (0.0, 0.0)), Move("a", ("L", 0), "xy", (0.0, 1.0))))
+    assert split.merge(p, [(part, plan)]) is None
+    swapped = Plan("circle", (Move("a", ("L", 0), "xy", (0.0, 0.0)), Move("b", ("L", 0), "xy", (0.0, 1.0))))
+    merged = split.merge(p, [(part, swapped)])
+    assert merged is not None and check_plan(inst, merged).feasible
