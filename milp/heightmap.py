@@ -11,8 +11,9 @@ that state alone.
 
 `search` walks the moves depth first from the empty container, remembers every state that failed
 (a transposition table: other orders of the same moves reach it again), and cuts a state when the
-free cells that some remaining box could still reach hold less than the remaining boxes' volume,
-or when some remaining box has no move left under the height limit (both only grow worse as more
+free space above the lowest level at which some remaining box could still cover each column (a box
+never rests lower than it could now: the height map only grows) holds less than the
+remaining boxes' volume, or when some remaining box has no move left under the height limit (both only grow worse as more
 boxes are moved). It answers a plan, "none" (every sequence was tried: an exact proof, in integer
 arithmetic), or nothing when its budget runs out. It is used on one container's part of a problem
 (`milp.split`), where the part's source orders and grip faces come from `Problem`.
@@ -130,7 +131,7 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
     def moves(gone: int, hm: tuple) -> Optional[list]:
         """The moves allowed now, or None when a cut shows the state cannot be completed."""
         out = []
-        reach = [False] * ncols
+        low = [top] * ncols  # the lowest level at which any remaining box can still cover each column
         left = 0
         lowest_top = [0] * n  # the lowest top each remaining box can have from here
         lowest_rest = [0] * n
@@ -149,12 +150,13 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
                 lowest_top[i] = min(lowest_top[i], rest + pl.height)
                 lowest_rest[i] = min(lowest_rest[i], rest)
                 for c in pl.cells:
-                    reach[c] = True
+                    if rest < low[c]:
+                        low[c] = rest
                 if ready and _tip_free(grip_masks[i], pl.orientation, gone) and supported(pl, hm, rest):
                     out.append((rest + pl.height, rest, pl))
             if not can_reach:
                 return None  # this box can no longer go anywhere below the limit
-        free = sum(top - hm[c] for c in range(ncols) if reach[c])
+        free = sum(top - v for v in low)
         if free < left:
             return None
         # chains of boxes that must lie one on another (loaded in source order, never side by side)
@@ -218,6 +220,12 @@ def _prod(e) -> float:
     return v
 
 
+def _beside(p: Problem, size: tuple[int, ...], i: int, j: int) -> bool:
+    """Whether boxes i and j can stand side by side in some pair of orientations (footprints apart)."""
+    return any(a[k] + b[k] <= size[k] for a in p.ext[i].values() for b in p.ext[j].values()
+               for k in range(len(size)))
+
+
 def _must_lie_below(p: Problem, size: tuple[int, ...]) -> list[list[int]]:
     """For each box, the boxes that lie wholly under it in every plan of this one container.
 
@@ -225,11 +233,7 @@ def _must_lie_below(p: Problem, size: tuple[int, ...]) -> list[list[int]]:
     orientations (their extents along some horizontal axis never sum to at most the container's),
     so their footprints overlap; loaded first, j lies under i's bottom (loading from above).
     """
-    def beside(i: int, j: int) -> bool:
-        return any(a[k] + b[k] <= size[k] for a in p.ext[i].values() for b in p.ext[j].values()
-                   for k in range(len(size)))
-
-    return [[j for j in range(p.n) if (j, i) in p.before and not beside(i, j)] for i in range(p.n)]
+    return [[j for j in range(p.n) if (j, i) in p.before and not _beside(p, size, i, j)] for i in range(p.n)]
 
 
 def _topological(p: Problem) -> list[int]:
