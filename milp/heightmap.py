@@ -36,12 +36,14 @@ from .problem import Problem
 
 @dataclass(frozen=True)
 class Found:
-    """`status`: "plan" (a sequence within the height, in `plan`), "none" (proved: no sequence), or
-    "unknown" (the deadline or the state budget ran out); `states`: states expanded."""
+    """`status`: "plan" (a sequence within the height, in `plan`, whose packed height is `height`),
+    "none" (proved: no sequence), or "unknown" (the deadline or the state budget ran out);
+    `states`: states expanded."""
 
     status: str
     plan: Optional[Plan] = None
     states: int = 0
+    height: Optional[int] = None
 
 
 def applies(p: Problem) -> bool:
@@ -209,7 +211,8 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
         moves_ = tuple(Move(p.ids[pl.box], (slot.type_id, slot.index), pl.orientation,
                             tuple(float(a) for a in pl.at) + (float(rest),), grip_needed(pl.orientation))
                        for pl, rest in path)
-        return Found("plan", Plan(instance=p.instance.name, moves=moves_), counter[0])
+        return Found("plan", Plan(instance=p.instance.name, moves=moves_), counter[0],
+                     max((rest + pl.height for pl, rest in path), default=0))
     return Found("unknown" if stop[0] else "none", None, counter[0])
 
 

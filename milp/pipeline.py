@@ -181,6 +181,8 @@ class _Run:
 PRIMARY_SHARE = 0.45
 #: Seconds the exhaustive height-map search may spend on one container step before the MILP takes over.
 HEIGHTMAP_SECONDS = 0.25
+#: Share of the time left that the container decomposition's first plan search may use (`_part_plans`).
+PLAN_SHARE = 0.1
 #: Share of the time limit the slow lower bounds (bar, contiguous) may use.
 BOUNDS_SHARE = 0.2
 #: The same when every box is bound to one container: the containers' parts (`milp.split`) then
@@ -378,17 +380,26 @@ def _split_stage(run: _Run) -> None:
     pieces.sort(key=lambda pc: -sum(min(e[0] * e[z] for e in pc.problem.ext[i].values()) for i in range(pc.problem.n))
                 / pc.problem.slots[0].size[0])
     least = {pc.slot: round_bound(max(pc.problem.min_extent(i, z) for i in range(pc.problem.n)), True) for pc in pieces}
+    early = _part_plans(run, pieces, least)
     found: dict[int, Plan] = {}
-    for pc in pieces:
-        while pc.slot not in found:
+    todo = list(pieces)
+    patient = False  # the first rounds give every open part an even slice; then each step the usual share
+    while todo:
+        progress = False
+        for pc in list(todo):
             if run.closed() or run.left() <= 0.05 or run.interrupted:
                 return
             target = max(run.bound, least[pc.slot]) if kind == "height" else least[pc.slot]
-            got = _part_step(run, pc, target)
+            if pc.slot in early and early[pc.slot][0] <= target:
+                got = early[pc.slot][1]
+            else:
+                got = _part_step(run, pc, target, None if patient else run.left() / (2 * len(todo)))
             if got is None:
-                return
+                continue
+            progress = True
             if isinstance(got, Plan):
                 found[pc.slot] = got
+                todo.remove(pc)
                 continue
             if target >= _part_cap(pc.problem):
                 value, claim = math.inf, "no plan exists"
@@ -403,6 +414,10 @@ def _split_stage(run: _Run) -> None:
                 return
             run.bounds["split"] = float(run.bound)
             run.report("containers")
+        if not progress:
+            if patient:
+                return
+            patient = True
     merged = split.merge(p, [(pc, found[pc.slot]) for pc in pieces])
     if merged is not None and run.offer(merged):
         run.notes.append("plan merged from the containers' separate plans (container decomposition)")
@@ -411,14 +426,49 @@ def _split_stage(run: _Run) -> None:
     run.report("containers")
 
 
+def _part_plans(run: _Run, pieces: list, least: dict) -> dict[int, tuple[int, Plan]]:
+    """Each part's lowest plan that a short descent of height-map searches finds: slot -> (height, plan).
+
+    A first search at the part's cap, then one below each plan found, each within the step
+    budget, all within PLAN_SHARE of the time left; the parts' plans are merged and offered at
+    once, so the incumbent is good before the proofs from below start. Plans only: a "none" here
+    ends the descent and is left to the proof steps.
+    """
+    out: dict[int, tuple[int, Plan]] = {}
+    end = time.perf_counter() + PLAN_SHARE * max(run.left(), 0.0)
+    for pc in pieces:
+        q = pc.problem
+        if not heightmap.applies(q):
+            continue
+        target = int(_part_cap(q))
+        while target >= least[pc.slot] and not run.interrupted:
+            now = time.perf_counter()
+            if now >= end:
+                break
+            got = heightmap.search(q, target, deadline=min(end, now + HEIGHTMAP_SECONDS))
+            if got.status != "plan":
+                break
+            out[pc.slot] = (got.height, got.plan)
+            target = got.height - 1
+    if len(out) == len(pieces):
+        merged = split.merge(run.problem, [(pc, out[pc.slot][1]) for pc in pieces])
+        before = run.best
+        if merged is not None and run.offer(merged) and run.best is not before:
+            run.notes.append("plan merged from the containers' height-map plans (container decomposition)")
+    return out
+
+
 def _part_cap(p: Problem) -> float:
     """The height above which a part cannot need more: its closed top, or all its boxes stacked."""
     top = p.slots[0].size[-1]
     return float(top) if top is not None else _safe_cap(p)
 
 
-def _part_step(run: _Run, piece: split.Part, target: float):
+def _part_step(run: _Run, piece: split.Part, target: float, seconds: Optional[float] = None):
     """A plan of the part within `target` (a Plan), a confirmed "none" (a ProofStep), or None (no answer).
+
+    `seconds` caps the model's first solve (the container decomposition's even slices); without
+    it the solve takes the usual share and, with no answer, the rest of the time.
 
     The exhaustive height-map search (`milp.heightmap`) goes first for a short while where it
     applies: it finds plans fast and closes small parts outright; the MILP answers the rest.
@@ -437,8 +487,8 @@ def _part_step(run: _Run, piece: split.Part, target: float):
                              "milp.heightmap)", None, "exact integer arithmetic (no solver)",
                              round(time.perf_counter() - t0, 3))
     m = build(q, vcap=target, lower=0.0, upper=target, goal="feasible")
-    out = run.solve(m.lp, integral=True)
-    if out.status == "unknown" and not run.interrupted and run.left() > 1.0:
+    out = run.solve(m.lp, integral=True, time_limit=seconds)
+    if seconds is None and out.status == "unknown" and not run.interrupted and run.left() > 1.0:
         out = run.solve(m.lp, integral=True, time_limit=run.left())
     run.notes.extend(r for r in m.restrictions if r not in run.notes)
     if out.objective is not None and out.status in ("optimal", "feasible"):

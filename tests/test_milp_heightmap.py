@@ -38,6 +38,8 @@ def answer(inst, height: int):
     assert heightmap.applies(part.problem)
     found = heightmap.search(part.problem, height, deadline=float("inf"))
     plan = split.merge(p, [(part, found.plan)]) if found.status == "plan" else None
+    if plan is not None:  # the height the search reports is the checker's
+        assert found.height == check_plan(inst, plan).objective
     return found.status, plan
 
 
