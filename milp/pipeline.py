@@ -381,6 +381,8 @@ def _split_stage(run: _Run) -> None:
                 / pc.problem.slots[0].size[0])
     least = {pc.slot: round_bound(max(pc.problem.min_extent(i, z) for i in range(pc.problem.n)), True) for pc in pieces}
     early = _part_plans(run, pieces, least)
+    if kind == "height" and _top_down(run, pieces, early):
+        return
     found: dict[int, Plan] = {}
     todo = list(pieces)
     patient = False  # the first rounds give every open part an even slice; then each step the usual share
@@ -424,6 +426,46 @@ def _split_stage(run: _Run) -> None:
     elif merged is None:
         run.notes.append("the containers' separate plans admit no common sequence; the whole model goes on")
     run.report("containers")
+
+
+def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> bool:
+    """Objective `height`: ask the parts that reach the incumbent's height U for a plan below it.
+
+    A confirmed "none" at U - 1 for one of them proves U optimal at once, without the decision
+    steps from the bound upward, which cost a proof each; a plan lowers U and the next round
+    asks again. `best` (slot -> (height, plan)) is updated in place. True when the stage is done
+    (optimal, or time out); False when a step had no answer in its slice and the steps from the
+    bound upward take over.
+    """
+    if len(best) != len(pieces):
+        return False
+    while True:
+        top = max(h for h, _ in best.values())
+        merged = split.merge(run.problem, [(pc, best[pc.slot][1]) for pc in pieces])
+        if merged is not None:
+            run.offer(merged)
+        if top - 1 < run.bound or run.closed():
+            return merged is not None
+        for pc in (pc for pc in pieces if best[pc.slot][0] == top):
+            if run.left() <= 0.05 or run.interrupted:
+                return True
+            got = _part_step(run, pc, top - 1)
+            if got is None:
+                return False
+            if isinstance(got, Plan):
+                report = check_plan(pc.problem.instance, got)
+                if not report.feasible:
+                    return False
+                best[pc.slot] = (int(round(report.objective)), got)
+                continue
+            run.bound = float(top)
+            run.bounds["split"] = float(top)
+            run.steps.append(dataclasses.replace(got, claim=f"no plan has height <= {top - 1:g}: {got.claim}"))
+            run.report("containers")
+            merged = split.merge(run.problem, [(pc, best[pc.slot][1]) for pc in pieces])
+            if merged is not None:
+                run.offer(merged)
+            return merged is not None
 
 
 def _part_plans(run: _Run, pieces: list, least: dict) -> dict[int, tuple[int, Plan]]:
