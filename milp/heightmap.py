@@ -182,7 +182,7 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
         if key in failed:
             return False
         counter[0] += 1
-        if counter[0] % 512 == 0 and (time.perf_counter() > deadline or counter[0] > max_states):
+        if counter[0] % 64 == 0 and (time.perf_counter() > deadline or counter[0] > max_states):
             stop[0] = True
         if stop[0]:
             return False
