@@ -186,6 +186,9 @@ HEIGHTMAP_SECONDS = 0.25
 #: (measured on the rules family, 2D n = 30 and 3D n = 16).
 PLAN_SHARE = 0.1
 DESCENT_SECONDS = 0.05
+#: The top-down step runs when the parts' plans are at least this far above the bound: closer,
+#: the steps from the bound upward are no more and each is tighter (3D n = 16 of the rules family).
+TOP_DOWN_GAP = 3
 #: Share of the time limit the slow lower bounds (bar, contiguous) may use.
 BOUNDS_SHARE = 0.2
 #: The same when every box is bound to one container: the containers' parts (`milp.split`) then
@@ -440,8 +443,8 @@ def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> boo
     (optimal, or time out); False when a step had no answer in its slice and the steps from the
     bound upward take over.
     """
-    if len(best) != len(pieces) or max(h for h, _ in best.values()) - run.bound < 3:
-        return False  # within two of the bound the steps upward are no more, and each is tighter
+    if len(best) != len(pieces) or max(h for h, _ in best.values()) - run.bound < TOP_DOWN_GAP:
+        return False
     while True:
         top = max(h for h, _ in best.values())
         merged = split.merge(run.problem, [(pc, best[pc.slot][1]) for pc in pieces])

@@ -8,8 +8,10 @@ height. The solver, which uses the decomposition on these draws, must agree with
 """
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 
+import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -19,6 +21,7 @@ from instances.model import Plan
 from milp import backends, heightmap, split
 from milp.embed import canonical, fix, plan_values
 from milp.model import build
+from milp import pipeline
 from milp.problem import prepare
 from tests.oracles.exhaustive import NotExact, TooLarge, solve_exhaustive
 from tests.oracles.tiny import split_instances
@@ -75,6 +78,55 @@ def test_solver_with_decomposition_agrees_with_oracle(inst):
         return
     result = milp.solve(inst, time_limit=TIME_LIMIT)
     assert_agrees(inst, result, got, require_proof=False)
+
+
+@contextlib.contextmanager
+def top_down_always():
+    """The top-down step on every instance with part plans above the bound; each call's gap recorded
+    (the parts' highest plan above the bound when the step was asked: the step runs when >= 1)."""
+    calls = []
+    real = pipeline._top_down
+
+    def spy(run, pieces, best):
+        if len(best) == len(pieces):
+            calls.append(max(h for h, _ in best.values()) - run.bound)
+        return real(run, pieces, best)
+
+    with pytest.MonkeyPatch.context() as mp:
+        mp.setattr(pipeline, "TOP_DOWN_GAP", 1)
+        mp.setattr(pipeline, "_top_down", spy)
+        yield calls
+
+
+@drawn(60)
+@given(inst=st.one_of(split_instances(dim=2), split_instances(dim=3), split_instances(rules_bite=True)))
+def test_top_down_step_agrees_with_oracle(inst):
+    got = oracle_optimum(inst)
+    if got is None:
+        return
+    with top_down_always():
+        result = milp.solve(inst, time_limit=TIME_LIMIT)
+    assert_agrees(inst, result, got, require_proof=False)
+
+
+@pytest.mark.parametrize("seed", [1, 4])
+def test_top_down_step_agrees_with_cpsat(seed):
+    """Rule-heavy loads with two destinations (the speed benchmark's 2D n = 20 family), larger than
+    the exhaustive oracle takes; seeds whose early plans lie above the bound, which is asserted."""
+    from instances.generate import random_instance
+    from tests.oracles.cpsat_rules import solve_cpsat_rules
+
+    inst = random_instance(2, 20, seed, size_class="uniform", width=10, source_ratio=1.5, targets=2, must_tip=0.2,
+                           flush=0.5, drop_order="large-first", support="center", integer_positions=True,
+                           name=f"top-down-{seed}")
+    ref = solve_cpsat_rules(inst, time_limit=60)
+    assert ref.status == "optimal"
+    with top_down_always() as calls:
+        result = milp.solve(inst, time_limit=60)
+    assert any(gap >= 1 for gap in calls), ("the top-down step must have run", calls)
+    assert result.status == "optimal", result.notes
+    assert result.objective == ref.objective
+    assert check_plan(inst, result.plan).objective == result.objective
 
 
 def test_merge_refuses_parts_that_need_a_circular_order():
