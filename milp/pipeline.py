@@ -426,12 +426,22 @@ def _split_stage(run: _Run) -> None:
             if patient:
                 return
             patient = True
-    merged = split.merge(p, [(pc, found[pc.slot]) for pc in pieces])
-    if merged is not None and run.offer(merged):
-        run.notes.append("plan merged from the containers' separate plans (container decomposition)")
-    elif merged is None:
+    before = run.best
+    if not _offer_merged(run, pieces, found):
         run.notes.append("the containers' separate plans admit no common sequence; the whole model goes on")
+    elif run.best is not before:
+        run.notes.append("plan merged from the containers' separate plans (container decomposition)")
     run.report("containers")
+
+
+def _offer_merged(run: _Run, pieces: list, plans: dict[int, Plan]) -> bool:
+    """Merge the parts' plans into one sequence (`split.merge`) and offer it to the checker.
+
+    False when the plans admit no common sequence."""
+    merged = split.merge(run.problem, [(pc, plans[pc.slot]) for pc in pieces])
+    if merged is not None:
+        run.offer(merged)
+    return merged is not None
 
 
 def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> bool:
@@ -447,11 +457,9 @@ def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> boo
         return False
     while True:
         top = max(h for h, _ in best.values())
-        merged = split.merge(run.problem, [(pc, best[pc.slot][1]) for pc in pieces])
-        if merged is not None:
-            run.offer(merged)
+        merged = _offer_merged(run, pieces, {k: plan for k, (_, plan) in best.items()})
         if top - 1 < run.bound or run.closed():
-            return merged is not None
+            return merged
         for pc in (pc for pc in pieces if best[pc.slot][0] == top):
             if run.left() <= 0.05 or run.interrupted:
                 return True
@@ -468,10 +476,7 @@ def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> boo
             run.bounds["split"] = float(top)
             run.steps.append(dataclasses.replace(got, claim=f"no plan has height <= {top - 1:g}: {got.claim}"))
             run.report("containers")
-            merged = split.merge(run.problem, [(pc, best[pc.slot][1]) for pc in pieces])
-            if merged is not None:
-                run.offer(merged)
-            return merged is not None
+            break  # the incumbent is proved: the next round merges the plans and ends
 
 
 def _part_plans(run: _Run, pieces: list, least: dict) -> dict[int, tuple[int, Plan]]:
@@ -498,10 +503,9 @@ def _part_plans(run: _Run, pieces: list, least: dict) -> dict[int, tuple[int, Pl
                 break
             out[pc.slot] = (got.height, got.plan)
             target = got.height - 1
-    if len(out) == len(pieces):
-        merged = split.merge(run.problem, [(pc, out[pc.slot][1]) for pc in pieces])
-        before = run.best
-        if merged is not None and run.offer(merged) and run.best is not before:
+    before = run.best
+    if len(out) == len(pieces) and _offer_merged(run, pieces, {k: plan for k, (_, plan) in out.items()}):
+        if run.best is not before:
             run.notes.append("plan merged from the containers' height-map plans (container decomposition)")
     return out
 
