@@ -24,6 +24,8 @@ Example:
 """
 from __future__ import annotations
 
+import math
+import sys
 import time
 from dataclasses import dataclass
 from itertools import product
@@ -106,7 +108,7 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
     ncols = 1
     for s in size:
         ncols *= s
-    volume = [min(int(_prod(e)) for e in p.ext[i].values()) for i in range(n)]
+    volume = [min(int(math.prod(e)) for e in p.ext[i].values()) for i in range(n)]
     min_height = [min(int(e[-1]) for e in p.ext[i].values()) for i in range(n)]
     preds = [sum(1 << j for j in range(n) if (j, i) in p.before) for i in range(n)]
     grip_masks = _grip_masks(p)
@@ -200,7 +202,6 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
         failed.add(key)
         return False
 
-    import sys
     old = sys.getrecursionlimit()
     sys.setrecursionlimit(max(old, 10 * n + 100))
     try:
@@ -214,13 +215,6 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
         return Found("plan", Plan(instance=p.instance.name, moves=moves_), counter[0],
                      max((rest + pl.height for pl, rest in path), default=0))
     return Found("unknown" if stop[0] else "none", None, counter[0])
-
-
-def _prod(e) -> float:
-    v = 1.0
-    for x in e:
-        v *= x
-    return v
 
 
 def _beside(p: Problem, size: tuple[int, ...], i: int, j: int) -> bool:

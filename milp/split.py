@@ -25,7 +25,7 @@ import dataclasses
 from typing import Optional
 
 from instances.geometry import Placed, footprints_overlap
-from instances.model import FACES_OF_GRIP, Move, Plan, grip_needed
+from instances.model import Move, Plan, grip_needed
 
 from .problem import Problem
 
@@ -121,7 +121,6 @@ def merge(p: Problem, pieces: list[tuple[Part, Plan]]) -> Optional[Plan]:
 
 def _grip_free(p: Problem, i: int, move: Move, gone: set[int]) -> bool:
     """True when the move keeps the box upright, or one face of the grip its tip needs is free now."""
-    grip = grip_needed(move.orientation)
-    if grip is None or p.instance.rules.access == "none":
+    if grip_needed(move.orientation) is None:
         return True
-    return any(f not in p.blocked[i] and p.touching[i].get(f, frozenset()) <= gone for f in FACES_OF_GRIP[grip])
+    return any(p.touching[i].get(f, frozenset()) <= gone for f in p.grip_faces(i, move.orientation))
