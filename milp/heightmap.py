@@ -18,18 +18,30 @@ boxes are moved). It answers a plan, "none" (every sequence was tried: an exact 
 arithmetic), or nothing when its budget runs out. It is used on one container's part of a problem
 (`milp.split`), where the part's source orders and grip faces come from `Problem`.
 
+`refute` proves "none" for a relaxation instead: the rules without support, which are unchanged
+when the container is turned upside down and the sequence reversed. Searched that way, from the
+last box loaded, the stacks that the source orders force on top come first and the space they
+waste is seen after a few moves, where the forward search meets it only after every arrangement
+of the boxes below; and without support a lower height map dominates a higher one, so far fewer
+states are kept. `hunt` uses the same search to look for plans that also meet the support rule.
+
 Example:
     >>> found = search(part.problem, height=12, deadline=time.perf_counter() + 5)  # doctest: +SKIP
     >>> found.status, found.plan                                                    # doctest: +SKIP
+    >>> refute(part.problem, height=11, deadline=time.perf_counter() + 5).status      # doctest: +SKIP
+    'none'
 """
 from __future__ import annotations
 
+import dataclasses
 import math
 import sys
 import time
 from dataclasses import dataclass
 from itertools import product
 from typing import Optional
+
+import numpy as np
 
 from instances.model import FACES_OF_GRIP, Move, Plan, grip_needed
 
@@ -39,7 +51,8 @@ from .problem import Problem
 @dataclass(frozen=True)
 class Found:
     """`status`: "plan" (a sequence within the height, in `plan`, whose packed height is `height`),
-    "none" (proved: no sequence), or "unknown" (the deadline or the state budget ran out);
+    "none" (proved: no sequence), "relaxed" (`refute` only: the relaxation has a plan, `p` may
+    not), or "unknown" (the deadline or the state budget ran out);
     `states`: states expanded."""
 
     status: str
@@ -99,6 +112,52 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
     `p` must satisfy `applies`. The answer "none" is exact: every move the rules allow was tried
     from every state not already shown to fail.
     """
+    return _walk(p, height, deadline, max_states, relaxed=False)
+
+
+def refute(p: Problem, height: int, deadline: float, max_states: int = 2_000_000) -> Found:
+    """Whether even the support-free relaxation of `p`'s one container packs within `height`, searched top down.
+
+    The relaxation keeps every rule but support: the source orders, the grip faces and loading
+    from above (a box lies above every earlier box whose footprint it overlaps). Every plan of
+    `p` is a plan of it, so its "none" proves that `p` has no plan of height <= `height`.
+    Without support the relaxation is unchanged by turning the container upside down and
+    reversing the sequence (y -> height - y - h, and "j before i and under i" becomes "i before j
+    and under j"), so it is searched from the last box loaded down to the first: the rigid
+    stacks that source orders put on top are placed first and the space they waste shows at once.
+    Without support, dropping a box to the highest top under it loses nothing (later boxes need
+    only to be above it), so the height-map state is exact; a lower height map does everything a
+    higher one does (the same moves rest no higher), so a state whose map lies on or above a
+    failed map of the same boxes fails too (dominance); and a column is raised to the lowest level
+    any remaining box could occupy in it, which changes no later move. A plan of the relaxation
+    is turned back and replayed with each box dropped onto the highest top under it (`_drop`):
+    status "plan" when that meets the support rule too (a plan of `p`), else "relaxed".
+
+    `p` must satisfy `refutable`. Proved correct against the exhaustive oracle in the tests.
+    """
+    return _walk(dataclasses.replace(p, before={(i, j) for j, i in p.before}), height, deadline, max_states,
+                 relaxed=True)
+
+
+def hunt(p: Problem, height: int, deadline: float, max_states: int = 2_000_000) -> Found:
+    """A plan of `p` within `height` from the top-down search of `refute`, its leaves replayed and kept
+    only when they meet the support rule: "plan" or "unknown" (its tables merge states that differ in
+    support, so an empty search proves nothing)."""
+    return _walk(dataclasses.replace(p, before={(i, j) for j, i in p.before}), height, deadline, max_states,
+                 relaxed=True, hunt=True)
+
+
+def refutable(p: Problem) -> bool:
+    """One container, loading from above, integer positions on integer data (any support rule)."""
+    rules = p.instance.rules
+    return len(p.slots) == 1 and p.integral and rules.integer_positions and rules.loading == "from-above"
+
+
+def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed: bool, hunt: bool = False) -> Found:
+    """The depth-first search of `search` (`relaxed` False) and of `refute` (True: `p` has its orders
+    reversed already; no support, grips free while the touching boxes are still to come, dominance).
+    `hunt` (relaxed only): a leaf counts only when its plan meets the support rule too; the search
+    then looks for plans only, and its "none" proves nothing (answered as "unknown")."""
     slot = p.slots[0]
     size = tuple(int(s) for s in slot.size[:-1])
     top = height if slot.size[-1] is None else min(height, int(slot.size[-1]))
@@ -119,11 +178,12 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
     topo = _topological(p)
     mirrors = _mirrors(size)
     failed: set = set()
+    lower: dict = {}  # relaxation: gone -> [array of failed canonical maps, rows used]
     counter = [0]
     stop = [False]
 
-    def supported(pl: _Place, hm: tuple, rest: int) -> bool:
-        if rest == 0:
+    def supported(pl: _Place, hm: tuple, rest: int, real: bool = False) -> bool:
+        if rest == 0 or (relaxed and not real):
             return True
         if rule == "center":
             return any(hm[c] == rest for c in pl.centre)
@@ -131,6 +191,9 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
             return all(hm[c] == rest for c in pl.corners)
         covered = sum(1 for c in pl.cells if hm[c] == rest)
         return covered + 1e-6 * len(pl.cells) >= fraction * len(pl.cells)
+
+    def real_support(pl: _Place, hm: tuple, rest: int) -> bool:
+        return supported(pl, hm, rest, True)
 
     def moves(gone: int, hm: tuple) -> Optional[list]:
         """The moves allowed now, or None when a cut shows the state cannot be completed."""
@@ -156,7 +219,7 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
                 for c in pl.cells:
                     if rest < low[c]:
                         low[c] = rest
-                if ready and _tip_free(grip_masks[i], pl.orientation, gone) and supported(pl, hm, rest):
+                if ready and _tip_free(grip_masks[i], pl.orientation, gone, relaxed) and supported(pl, hm, rest):
                     out.append((rest + pl.height, rest, pl))
             if not can_reach:
                 return None  # this box can no longer go anywhere below the limit
@@ -173,13 +236,15 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
                 if lowest_top[i] > top:
                     return None
         out.sort(key=lambda t: (t[0], t[1], t[2].at))
+        if relaxed:
+            hm[:] = low  # the relaxation's normal form (see `refute`)
         return out
 
     path: list = []
 
     def walk(gone: int, hm: tuple) -> bool:
         if gone == (1 << n) - 1:
-            return True
+            return not hunt or _drop(p, top, [pl for pl, _ in reversed(path)], real_support, 0).status == "plan"
         key = (gone, min(tuple(hm[c] for c in m) for m in mirrors))
         if key in failed:
             return False
@@ -188,7 +253,17 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
             stop[0] = True
         if stop[0]:
             return False
-        options = moves(gone, hm)
+        if relaxed:
+            hm = list(hm)
+            options = moves(gone, hm)
+            if options is not None:
+                raw, images = key, [tuple(hm[c] for c in m) for m in mirrors]
+                key = (gone, min(images))
+                if key in failed or dominated(gone, images):
+                    failed.add(raw)
+                    return False
+        else:
+            options = moves(gone, hm)
         for _, rest, pl in options or ():
             new = list(hm)
             for c in pl.cells:
@@ -200,7 +275,26 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
             if stop[0]:
                 return False
         failed.add(key)
+        if relaxed:
+            remember(gone, key[1])
         return False
+
+    def dominated(gone: int, images: list) -> bool:
+        """Some failed map of the same boxes lies on or below one of these mirror images (relaxation only)."""
+        table = lower.get(gone)
+        if table is None:
+            return False
+        rows = table[0][:table[1]]
+        return any(bool((rows <= np.asarray(im)).all(axis=1).any()) for im in images)
+
+    def remember(gone: int, hm: tuple) -> None:
+        table = lower.get(gone)
+        if table is None:
+            lower[gone] = table = [np.empty((8, ncols), dtype=np.int32), 0]
+        if table[1] == len(table[0]):
+            table[0] = np.concatenate([table[0], np.empty_like(table[0])])
+        table[0][table[1]] = hm
+        table[1] += 1
 
     old = sys.getrecursionlimit()
     sys.setrecursionlimit(max(old, 10 * n + 100))
@@ -208,6 +302,10 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
         ok = walk(0, (0,) * ncols)
     finally:
         sys.setrecursionlimit(old)
+    if ok and relaxed:
+        return _drop(p, top, [pl for pl, _ in reversed(path)], real_support, counter[0])
+    if hunt:
+        return Found("unknown", None, counter[0])
     if ok:
         moves_ = tuple(Move(p.ids[pl.box], (slot.type_id, slot.index), pl.orientation,
                             tuple(float(a) for a in pl.at) + (float(rest),), grip_needed(pl.orientation))
@@ -215,6 +313,26 @@ def search(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
         return Found("plan", Plan(instance=p.instance.name, moves=moves_), counter[0],
                      max((rest + pl.height for pl, rest in path), default=0))
     return Found("unknown" if stop[0] else "none", None, counter[0])
+
+
+def _drop(p: Problem, top: int, sequence: list[_Place], supported, states: int) -> Found:
+    """The relaxation's plan turned back the right way up and loaded in order, each box dropped onto
+    the highest top under it: a plan of the relaxation still; a plan of the real part ("plan") when
+    every box also meets the support rule, else "relaxed"."""
+    slot = p.slots[0]
+    hm = [0] * (max((max(pl.cells) for pl in sequence), default=0) + 1)
+    moves, ok, height = [], True, 0
+    for pl in sequence:
+        rest = max(hm[c] for c in pl.cells)
+        ok = ok and supported(pl, tuple(hm), rest)
+        for c in pl.cells:
+            hm[c] = rest + pl.height
+        height = max(height, rest + pl.height)
+        moves.append(Move(p.ids[pl.box], (slot.type_id, slot.index), pl.orientation,
+                          tuple(float(a) for a in pl.at) + (float(rest),), grip_needed(pl.orientation)))
+    if not ok or height > top:
+        return Found("relaxed", None, states, height)
+    return Found("plan", Plan(instance=p.instance.name, moves=tuple(moves)), states, height)
 
 
 def _beside(p: Problem, size: tuple[int, ...], i: int, j: int) -> bool:
@@ -298,9 +416,12 @@ def _grip_masks(p: Problem) -> list[dict[str, list[int]]]:
     return out
 
 
-def _tip_free(masks: dict[str, list[int]], orientation: str, gone: int) -> bool:
-    """Upright, or some grip face of the tip has every touching box gone."""
+def _tip_free(masks: dict[str, list[int]], orientation: str, gone: int, reverse: bool = False) -> bool:
+    """Upright, or some grip face of the tip has every touching box gone (`reverse`: none of them
+    placed yet, the sequence being built from its end)."""
     grip = grip_needed(orientation)
     if grip is None:
         return True
+    if reverse:
+        return any(m & gone == 0 for m in masks[grip])
     return any(m & ~gone == 0 for m in masks[grip])

@@ -181,6 +181,11 @@ class _Run:
 PRIMARY_SHARE = 0.45
 #: Seconds the exhaustive height-map search may spend on one container step before the MILP takes over.
 HEIGHTMAP_SECONDS = 0.25
+#: Share of a container step's time (after the height-map search) that the top-down search of the
+#: support-free relaxation may use to prove "no plan"; the MILP has the rest.
+REFUTE_SHARE = 0.5
+#: Share of the time left for re-planning parts whose plans do not merge (`_unlocked`).
+UNLOCK_SHARE = 0.2
 #: Share of the time left that the container decomposition's first plan search may use (`_part_plans`),
 #: and the seconds each of its searches may take: plans come in milliseconds or not at all
 #: (measured on the rules family, 2D n = 30 and 3D n = 16).
@@ -380,7 +385,7 @@ def _split_stage(run: _Run) -> None:
     kind = p.instance.objective.minimise
     z = p.dim - 1
     pieces = split.parts(p)
-    if len(pieces) == 1 and not heightmap.applies(pieces[0].problem):
+    if len(pieces) == 1 and not heightmap.refutable(pieces[0].problem):
         return  # one container and no search to add: the whole model is the same model
     # the part whose boxes need the most height on average first: it is the likeliest to raise the bound
     pieces.sort(key=lambda pc: -sum(min(e[0] * e[z] for e in pc.problem.ext[i].values()) for i in range(pc.problem.n))
@@ -437,11 +442,60 @@ def _split_stage(run: _Run) -> None:
 def _offer_merged(run: _Run, pieces: list, plans: dict[int, Plan]) -> bool:
     """Merge the parts' plans into one sequence (`split.merge`) and offer it to the checker.
 
-    False when the plans admit no common sequence."""
+    When tips in two containers wait for each other's boxes, the parts holding them are planned
+    again with those tips restricted (`_unlocked`). False when no common sequence was found."""
     merged = split.merge(run.problem, [(pc, plans[pc.slot]) for pc in pieces])
+    if merged is None:
+        merged = _unlocked(run, pieces, dict(plans))
     if merged is not None:
         run.offer(merged)
     return merged is not None
+
+
+def _unlocked(run: _Run, pieces: list, plans: dict[int, Plan]) -> Optional[Plan]:
+    """A merged plan when the parts' own plans do not merge: the first part's plan is kept and the
+    others are planned again in turn, each on the orders the plans before it fix (`split.following`)
+    and strict, within the height the objective allows them. Plan searches only; None when one
+    finds nothing in its share of UNLOCK_SHARE of the time left."""
+    p = run.problem
+    end = time.perf_counter() + UNLOCK_SHARE * max(run.left(), 0.0)
+    heights = {pc.slot: _plan_height(pc.problem, plans[pc.slot]) for pc in pieces}
+    top = max(heights.values())
+    for first in range(len(pieces)):  # each part's plan in turn is the one kept, each in an even share
+        order = pieces[first:] + pieces[:first]
+        until = time.perf_counter() + (end - time.perf_counter()) / (len(pieces) - first)
+        fixed = {order[0].slot: plans[order[0].slot]}
+        q = split.following(p, order[0], plans[order[0].slot])
+        for pc in order[1:]:
+            if q is None or time.perf_counter() >= until:
+                break
+            mine = split.part(q, pc.slot, frozenset(pc.boxes)).problem
+            limit = top if p.instance.objective.minimise == "height" else heights[pc.slot]
+            got = _plan_within(mine, limit, until)
+            if got is None:
+                break
+            fixed[pc.slot] = got
+            q = split.following(q, pc, got)
+        if len(fixed) == len(pieces) and q is not None:
+            return split.merge(p, [(pc, fixed[pc.slot]) for pc in pieces])
+    return None
+
+
+def _plan_height(q: Problem, plan: Plan) -> int:
+    """The packed height of one part's plan."""
+    return int(max((mv.at[-1] + q.ext[q.ids.index(mv.box)][mv.orientation][-1] for mv in plan.moves), default=0))
+
+
+def _plan_within(q: Problem, height: int, deadline: float) -> Optional[Plan]:
+    """A plan of one part within `height` from the height-map searches (top down, then forward), or None."""
+    half = time.perf_counter() + 0.5 * max(deadline - time.perf_counter(), 0.0)
+    for search, until in ((heightmap.hunt, half), (heightmap.search, deadline)):
+        applies = heightmap.applies(q) if search is heightmap.search else heightmap.refutable(q)
+        if applies:
+            got = search(q, height, deadline=until)
+            if got.status == "plan":
+                return got.plan
+    return None
 
 
 def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> bool:
@@ -499,6 +553,8 @@ def _part_plans(run: _Run, pieces: list, least: dict) -> dict[int, tuple[int, Pl
             if now >= end:
                 break
             got = heightmap.search(q, target, deadline=min(end, now + DESCENT_SECONDS))
+            if got.status != "plan" and heightmap.refutable(q):
+                got = heightmap.hunt(q, target, deadline=min(end, time.perf_counter() + DESCENT_SECONDS))
             if got.status != "plan":
                 break
             out[pc.slot] = (got.height, got.plan)
@@ -523,21 +579,38 @@ def _part_step(run: _Run, piece: split.Part, target: float, seconds: Optional[fl
     it the solve takes the usual share and, with no answer, the rest of the time.
 
     The exhaustive height-map search (`milp.heightmap`) goes first for a short while where it
-    applies: it finds plans fast and closes small parts outright; the MILP answers the rest.
+    applies: it finds plans fast and closes small parts outright. Then the support-free
+    relaxation searched top down (`heightmap.refute`) may prove that no plan exists; the MILP
+    answers the rest.
     """
+    start = time.perf_counter()
     q = piece.problem
     target = min(target, _part_cap(q))
     what = f"the boxes of container {q.instance.name.rsplit(' / ', 1)[-1]} alone"
+    budget = max(seconds if seconds is not None else run.left(), 0.0)
     if heightmap.applies(q):
         t0 = time.perf_counter()
-        found = heightmap.search(q, int(target), deadline=t0 + min(HEIGHTMAP_SECONDS, 0.2 * max(run.left(), 0.0)))
+        found = heightmap.search(q, int(target), deadline=t0 + min(HEIGHTMAP_SECONDS, 0.2 * budget))
         if found.status == "plan":
             return found.plan
         if found.status == "none":
-            return ProofStep(f"{what} cannot be packed to height {target:g}",
+            return _searched(f"{what} cannot be packed to height {target:g}",
                              f"exhaustive search over loading sequences on a height map ({found.states} states, "
-                             "milp.heightmap)", None, "exact integer arithmetic (no solver)",
-                             round(time.perf_counter() - t0, 3))
+                             "milp.heightmap)", t0)
+    if heightmap.refutable(q):
+        t0 = time.perf_counter()
+        found = heightmap.refute(q, int(target), deadline=t0 + REFUTE_SHARE * max(budget - (t0 - start), 0.0))
+        if found.status == "relaxed":  # the relaxation packs: look among its plans for one that meets support
+            left = max(budget - (time.perf_counter() - start), 0.0)
+            found = heightmap.hunt(q, int(target), deadline=time.perf_counter() + REFUTE_SHARE * left)
+        if found.status == "plan":
+            return found.plan
+        if found.status == "none":
+            return _searched(f"{what} cannot be packed to height {target:g}",
+                             f"exhaustive search of the support-free relaxation from the top down ({found.states} "
+                             "states, milp.heightmap.refute)", t0)
+        if seconds is not None:
+            seconds = max(seconds - (time.perf_counter() - start), 0.05)
     m = build(q, vcap=target, lower=0.0, upper=target, goal="feasible")
     out = run.solve(m.lp, integral=True, time_limit=seconds)
     if seconds is None and out.status == "unknown" and not run.interrupted and run.left() > 1.0:
@@ -554,6 +627,11 @@ def _part_step(run: _Run, piece: split.Part, target: float, seconds: Optional[fl
     return ProofStep(f"{what} cannot be packed to height {target:g}", "relative-position MILP on one container "
                      "(milp.model, container decomposition)", backends.backend_version(run.backend),
                      backends.confirmer(run.backend), round(out.seconds + time.perf_counter() - t0, 3))
+
+def _searched(claim: str, method: str, t0: float) -> ProofStep:
+    """A proof step of an exhaustive search in integer arithmetic (no solver, nothing to confirm)."""
+    return ProofStep(claim, method, None, "exact integer arithmetic (no solver)", round(time.perf_counter() - t0, 3))
+
 
 def _special_stage(run: _Run) -> None:
     """Plans from special-structure finders (`milp.special`), each checked before it counts."""

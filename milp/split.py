@@ -14,7 +14,9 @@ Everything else about the other boxes is dropped, so every plan of the whole ins
 to the part is a plan of the part: a part with no plan of height <= H proves that no plan of the
 whole instance has height <= H (objective `height`), and the parts' least heights sum to a lower
 bound on `height-sum`. The parts' plans are then merged into one sequence (`merge`); the merged
-plan still has to pass the checker before it counts.
+plan still has to pass the checker before it counts. When the parts' own plans admit no common
+sequence (each waits for a box of the other), `following` fixes the orders one plan sets, and the
+other parts are planned again on them, strict (`part`), which always merges.
 
 Decomposition by a shared resource is common practice in exact methods for multi-container
 loading; the part relaxation and the merge below are this project's own.
@@ -23,6 +25,8 @@ from __future__ import annotations
 
 import dataclasses
 from typing import Optional
+
+import networkx as nx
 
 from instances.geometry import Placed, footprints_overlap
 from instances.model import Move, Plan, grip_needed
@@ -52,22 +56,31 @@ def parts(p: Problem) -> list[Part]:
     return [part(p, k) for k in slots]
 
 
-def part(p: Problem, k: int) -> Part:
-    """The relaxation of `p` to slot `k` and the boxes that can only go there (see the module text)."""
+def part(p: Problem, k: int, strict: frozenset = frozenset()) -> Part:
+    """The relaxation of `p` to slot `k` and the boxes that can only go there (see the module text).
+
+    For the boxes in `strict` (indices in `p`) it is a restriction instead, used to find plans that
+    merge: a grip face of theirs touched by a box of another container counts as blocked unless
+    that box surely leaves first (see `following`)."""
     members = tuple(i for i in range(p.n) if p.slots_of[i] == [k])
     inside = set(members)
     new = {i: n for n, i in enumerate(members)}
     before = {(new[j], new[i]) for j, i in p.before if j in inside and i in inside}
     touching = []
+    blocked = []
     for i in members:
         faces = {}
+        walls = set(p.blocked[i])
         for f, touch in p.touching[i].items():
             outside = touch - inside
+            if i in strict and any((t, i) not in p.before for t in outside):
+                walls.add(f)
             need = {new[j] for j in touch & inside}
             need |= {new[s] for s in members if any((s, t) in p.before for t in outside)}
             need.discard(new[i])
             faces[f] = frozenset(need)
         touching.append(faces)
+        blocked.append(frozenset(walls))
     slot = p.slots[k]
     inst = p.instance
     kind = inst.container(slot.type_id)
@@ -77,7 +90,7 @@ def part(p: Problem, k: int) -> Part:
     problem = Problem(
         instance=sub, ids=[p.ids[i] for i in members], ext=[p.ext[i] for i in members],
         slots=[dataclasses.replace(slot, index=0)], slots_of=[[0] for _ in members], before=before,
-        touching=touching, blocked=[p.blocked[i] for i in members], integral=p.integral,
+        touching=touching, blocked=blocked, integral=p.integral,
         integral_objective=p.integral_objective)
     return Part(k, problem, members)
 
@@ -117,6 +130,31 @@ def merge(p: Problem, pieces: list[tuple[Part, Plan]]) -> Optional[Plan]:
         gone.add(ready)
         order.append(ready)
     return Plan(instance=p.instance.name, moves=tuple(placed[i] for i in order))
+
+
+def following(p: Problem, piece: Part, plan: Plan) -> Optional[Problem]:
+    """`p` with the orders one part's plan fixes: its sequence, and for each tip the other containers'
+    boxes touching the face it uses (one no source order keeps blocked). Closed transitively;
+    None when they contradict the source orders. Planning the other parts on the result, strict
+    (`part`), gives plans that `merge` always joins."""
+    index = {b: i for i, b in enumerate(p.ids)}
+    mine = set(piece.boxes)
+    seq = [index[mv.box] for mv in plan.moves]
+    edges = set(p.before) | set(zip(seq, seq[1:]))
+    for i, mv in zip(seq, plan.moves):
+        if grip_needed(mv.orientation) is None:
+            continue
+        faces = p.grip_faces(i, mv.orientation)
+        outside = {f: {t for t in p.touching[i].get(f, ()) if t not in mine} for f in faces}
+        usable = [f for f in faces if not any((i, t) in p.before for t in outside[f])]
+        if not usable:
+            return None
+        face = min(usable, key=lambda f: sum((t, i) not in p.before for t in outside[f]))
+        edges |= {(t, i) for t in outside[face]}
+    graph = nx.DiGraph(list(edges))
+    if not nx.is_directed_acyclic_graph(graph):
+        return None
+    return dataclasses.replace(p, before=set(nx.transitive_closure_dag(graph).edges()))
 
 
 def _grip_free(p: Problem, i: int, move: Move, gone: set[int]) -> bool:

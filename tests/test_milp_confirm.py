@@ -30,13 +30,15 @@ def lying_first_solve(monkeypatch):
         return real(lp, **kw)
 
     monkeypatch.setattr(backends, "run", liar)
-    monkeypatch.setattr(heightmap, "applies", lambda p: False)  # the model, not the exact search, must answer
+    monkeypatch.setattr(heightmap, "applies", lambda p: False)  # the model, not the exact searches, must answer
+    monkeypatch.setattr(heightmap, "refutable", lambda p: False)
 
 
 def quitting_confirmation(monkeypatch):
     """The confirming solve never finishes."""
     monkeypatch.setattr(backends, "confirm", lambda lp, **kw: backends.Outcome("unknown", None, None, 0, 0.0))
-    monkeypatch.setattr(heightmap, "applies", lambda p: False)  # the model, not the exact search, must answer
+    monkeypatch.setattr(heightmap, "applies", lambda p: False)  # the model, not the exact searches, must answer
+    monkeypatch.setattr(heightmap, "refutable", lambda p: False)
 
 
 def test_a_wrong_infeasible_is_caught_by_the_second_solve(monkeypatch):

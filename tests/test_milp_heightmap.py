@@ -6,6 +6,13 @@
   says "none"; on instances the oracle proves infeasible it says "none" at every height;
 - OR-Tools CP-SAT (`tests.oracles.cpsat_rules`, a whole-problem model) on generated rule-heavy
   loads of 8 boxes in 2D and 6 in 3D: the same two facts at CP-SAT's proved optimum.
+
+The top-down search of the support-free relaxation (`heightmap.refute`, `heightmap.hunt`):
+- it never answers "none" at a height where the exhaustive oracle has a plan, and every plan it or
+  `hunt` gives is accepted by the checker within the height;
+- it is exact for the relaxation: on the rule-heavy loads above with the support rule set to
+  `none` (then the relaxation is the instance itself), it answers "none" one unit below CP-SAT's
+  optimum and not at it.
 """
 from __future__ import annotations
 
@@ -16,6 +23,7 @@ from hypothesis import given
 
 from instances.checker import check_plan
 from instances.generate import random_instance
+from instances.model import Support
 from milp import heightmap, split
 from milp.pipeline import _safe_cap
 from milp.problem import prepare
@@ -23,6 +31,20 @@ from tests.oracles.cpsat_rules import solve_cpsat_rules
 from tests.oracles.tiny import binding_instances
 from tests.test_milp_split import oracle_optimum
 from tests.test_milp_vs_oracles import drawn
+
+
+SMALL_LOADS = [(2, 8, s) for s in range(4)] + [(3, 6, s) for s in range(3)]
+
+
+def rule_heavy(dim: int, n: int, seed: int):
+    """A generated rule-heavy load for one container (the speed benchmark's recipe, smaller)."""
+    return random_instance(dim, n, seed, size_class="uniform", width=6 if dim == 2 else 4, source_ratio=1.5,
+                           targets=1, must_tip=0.2, flush=0.5, drop_order="large-first", support="center",
+                           integer_positions=True, name=f"hm-{dim}d-{n}-{seed}")
+
+
+def with_support(inst, rule: str):
+    return dataclasses.replace(inst, rules=dataclasses.replace(inst.rules, support=Support(rule)))
 
 
 def one_container(inst):
@@ -54,9 +76,33 @@ def assert_exact_at(inst, optimum: int) -> None:
         assert answer(inst, optimum - 1)[0] == "none"
 
 
+@pytest.mark.parametrize("dim,n,seed", SMALL_LOADS)
+def test_search_agrees_with_cpsat(dim, n, seed):
+    inst = rule_heavy(dim, n, seed)
+    ref = solve_cpsat_rules(inst, time_limit=60)
+    assert ref.status == "optimal"
+    assert_exact_at(inst, int(ref.objective))
+
+
+def relaxed_answer(inst, height: int, search=heightmap.refute) -> str:
+    """The top-down search's status on the instance's one container; a plan it gives must be checked."""
+    p = prepare(inst)
+    (part,) = split.parts(p)
+    assert heightmap.refutable(part.problem)
+    found = search(part.problem, height, deadline=float("inf"))
+    if found.status == "plan":
+        plan = split.merge(p, [(part, found.plan)])
+        assert plan is not None, "the relaxation's plan, replayed, must merge"
+        report = check_plan(inst, plan)
+        assert report.feasible, [str(v) for v in report.violations]
+        assert report.objective <= height and report.objective == found.height
+    return found.status
+
+
 @drawn(150)
 @given(inst=binding_instances())
-def test_search_agrees_with_exhaustive_oracle(inst):
+def test_searches_agree_with_exhaustive_oracle(inst):
+    """Forward: exact at the oracle's optimum. Top down: never "none" where the oracle has a plan."""
     inst = one_container(inst)
     if inst.objective.minimise != "height":
         inst = dataclasses.replace(inst, objective=dataclasses.replace(inst.objective, minimise="height"))
@@ -68,16 +114,27 @@ def test_search_agrees_with_exhaustive_oracle(inst):
         return
     if got.status == "infeasible":
         top = p.slots[0].size[-1]
-        assert answer(inst, int(top if top is not None else _safe_cap(p)))[0] == "none"
+        height = int(top if top is not None else _safe_cap(p))
+        assert answer(inst, height)[0] == "none"
+        assert relaxed_answer(inst, height) != "plan"
+        assert relaxed_answer(inst, height, heightmap.hunt) != "plan"
         return
-    assert_exact_at(inst, int(got.objective))
+    optimum = int(got.objective)
+    assert_exact_at(inst, optimum)
+    assert relaxed_answer(inst, optimum) in ("plan", "relaxed")
+    assert relaxed_answer(inst, optimum, heightmap.hunt) in ("plan", "unknown")
+    if optimum > 0:  # no plan below the optimum: the search may say "none" or "relaxed", never "plan"
+        assert relaxed_answer(inst, optimum - 1) in ("none", "relaxed")
+        assert relaxed_answer(inst, optimum - 1, heightmap.hunt) == "unknown"
 
 
-@pytest.mark.parametrize("dim,n,seed", [(2, 8, s) for s in range(4)] + [(3, 6, s) for s in range(3)])
-def test_search_agrees_with_cpsat(dim, n, seed):
-    inst = random_instance(dim, n, seed, size_class="uniform", width=6 if dim == 2 else 4, source_ratio=1.5,
-                           targets=1, must_tip=0.2, flush=0.5, drop_order="large-first", support="center",
-                           integer_positions=True, name=f"hm-{dim}d-{n}-{seed}")
-    ref = solve_cpsat_rules(inst, time_limit=60)
+@pytest.mark.parametrize("dim,n,seed", SMALL_LOADS)
+def test_refute_is_exact_for_the_support_free_relaxation(dim, n, seed):
+    inst = rule_heavy(dim, n, seed)
+    free = with_support(inst, "none")
+    ref = solve_cpsat_rules(free, time_limit=60)
     assert ref.status == "optimal"
-    assert_exact_at(inst, int(ref.objective))
+    assert relaxed_answer(free, int(ref.objective)) == "plan"  # without support the relaxation is the instance
+    assert relaxed_answer(free, int(ref.objective) - 1) == "none"
+    # the same proof holds for the instance with its support rule: its optimum is no lower
+    assert solve_cpsat_rules(inst, time_limit=60).objective >= ref.objective

@@ -261,7 +261,8 @@ def test_a_plan_the_checker_rejects_is_an_error(monkeypatch):
     # make the greedy useless and the model's plan wrong (both boxes on the floor, overlapping)
     monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
     monkeypatch.setattr(pipeline.special, "FINDERS", [])  # the perfect-packing search would solve it first
-    monkeypatch.setattr(pipeline.heightmap, "applies", lambda p: False)  # and so would the height-map search
+    monkeypatch.setattr(pipeline.heightmap, "applies", lambda p: False)  # and so would the height-map searches
+    monkeypatch.setattr(pipeline.heightmap, "refutable", lambda p: False)
     bad = Plan("hand", (Move("A", ("strip", 0), "xy", (0, 0)), Move("B", ("strip", 0), "xy", (0, 0))))
     monkeypatch.setattr(pipeline, "extract_plan", lambda m: bad)
     r = solve(inst, time_limit=TL)
@@ -277,6 +278,7 @@ def test_interrupt_keeps_the_best_checked_plan(monkeypatch):
 
     monkeypatch.setattr(pipeline.backends, "run", interrupted)
     monkeypatch.setattr(pipeline, "_lower_bounds", lambda run: None)  # so the greedy plan is not proved
+    monkeypatch.setattr(pipeline.heightmap, "refutable", lambda p: False)  # nor proved by the exact search
     boxes = [Box("A", (2, 3), ("xy",)), Box("B", (2, 3), ("xy",)), Box("C", (3, 1), ("xy",))]
     inst = strip2d(boxes, 3, support="none")
     r = solve(inst, time_limit=TL)
@@ -291,6 +293,7 @@ def test_unknown_when_nothing_is_found(monkeypatch):
     monkeypatch.setattr(pipeline, "best_incumbent", lambda *a, **k: None)
     monkeypatch.setattr(pipeline.special, "FINDERS", [])  # no special-structure plans either
     monkeypatch.setattr(pipeline.heightmap, "applies", lambda p: False)  # nor height-map searches
+    monkeypatch.setattr(pipeline.heightmap, "refutable", lambda p: False)
     monkeypatch.setattr(pipeline.backends, "run", lambda *a, **k: Outcome("unknown", None, None, 0, 0.01))
     inst = strip2d([Box("A", (1, 1), ("xy",)), Box("B", (1, 1), ("xy",))], 1)
     r = solve(inst, time_limit=1.0)
