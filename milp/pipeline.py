@@ -184,8 +184,10 @@ HEIGHTMAP_SECONDS = 0.25
 #: Share of a container step's time (after the height-map search) that the top-down search of the
 #: support-free relaxation may use to prove "no plan"; the MILP has the rest.
 REFUTE_SHARE = 0.5
-#: Share of the time left for re-planning parts whose plans do not merge (`_unlocked`).
+#: Share of the time left for re-planning parts whose plans do not merge (`_unlocked`), and the
+#: share when the parts' plans already meet the proved bound (a merge then ends the solve).
 UNLOCK_SHARE = 0.2
+CLOSING_SHARE = 0.9
 #: Share of the time left that the container decomposition's first plan search may use (`_part_plans`),
 #: and the seconds each of its searches may take: plans come in milliseconds or not at all
 #: (measured on the rules family, 2D n = 30 and 3D n = 16).
@@ -197,8 +199,9 @@ TOP_DOWN_GAP = 3
 #: Share of the time limit the slow lower bounds (bar, contiguous) may use.
 BOUNDS_SHARE = 0.2
 #: The same when every box is bound to one container: the containers' parts (`milp.split`) then
-#: prove more per second than the whole-instance bounds (measured on the rules family, 2D n = 30).
-SPLIT_BOUNDS_SHARE = 0.05
+#: prove more per second than the whole-instance bounds (measured on the rules family, 2D n = 10-40:
+#: with the top-down relaxation search the slow bounds added nothing there and cost up to 0.5 s).
+SPLIT_BOUNDS_SHARE = 0.005
 
 
 def _safe_cap(p: Problem) -> float:
@@ -439,6 +442,11 @@ def _split_stage(run: _Run) -> None:
     run.report("containers")
 
 
+def _parts_searched(p: Problem) -> bool:
+    """The container decomposition applies and each part has the height-map searches (plans come from them)."""
+    return split.applies(p) and p.integral_objective and all(heightmap.refutable(pc.problem) for pc in split.parts(p))
+
+
 def _offer_merged(run: _Run, pieces: list, plans: dict[int, Plan]) -> bool:
     """Merge the parts' plans into one sequence (`split.merge`) and offer it to the checker.
 
@@ -456,11 +464,13 @@ def _unlocked(run: _Run, pieces: list, plans: dict[int, Plan]) -> Optional[Plan]
     """A merged plan when the parts' own plans do not merge: the first part's plan is kept and the
     others are planned again in turn, each on the orders the plans before it fix (`split.following`)
     and strict, within the height the objective allows them. Plan searches only; None when one
-    finds nothing in its share of UNLOCK_SHARE of the time left."""
+    finds nothing in its share of UNLOCK_SHARE of the time left (CLOSING_SHARE when the plans
+    already meet the proved bound)."""
     p = run.problem
-    end = time.perf_counter() + UNLOCK_SHARE * max(run.left(), 0.0)
     heights = {pc.slot: _plan_height(pc.problem, plans[pc.slot]) for pc in pieces}
     top = max(heights.values())
+    closing = p.instance.objective.minimise == "height" and top <= run.bound  # a merge would end the solve
+    end = time.perf_counter() + (CLOSING_SHARE if closing else UNLOCK_SHARE) * max(run.left(), 0.0)
     for first in range(len(pieces)):  # each part's plan in turn is the one kept, each in an even share
         order = pieces[first:] + pieces[:first]
         until = time.perf_counter() + (end - time.perf_counter()) / (len(pieces) - first)
@@ -509,21 +519,26 @@ def _top_down(run: _Run, pieces: list, best: dict[int, tuple[int, Plan]]) -> boo
     """
     if len(best) != len(pieces) or max(h for h, _ in best.values()) - run.bound < TOP_DOWN_GAP:
         return False
+
+    def merged(done: bool) -> bool:  # merged once on leaving: a failed merge costs a re-planning
+        ok = _offer_merged(run, pieces, {k: plan for k, (_, plan) in best.items()})
+        return done and ok
+
     while True:
         top = max(h for h, _ in best.values())
-        merged = _offer_merged(run, pieces, {k: plan for k, (_, plan) in best.items()})
-        if top - 1 < run.bound or run.closed():
-            return merged
+        if top - 1 < run.bound:
+            return merged(True)
         for pc in (pc for pc in pieces if best[pc.slot][0] == top):
             if run.left() <= 0.05 or run.interrupted:
+                merged(True)
                 return True
             got = _part_step(run, pc, top - 1)
             if got is None:
-                return False
+                return merged(False)
             if isinstance(got, Plan):
                 report = check_plan(pc.problem.instance, got)
                 if not report.feasible:
-                    return False
+                    return merged(False)
                 best[pc.slot] = (int(round(report.objective)), got)
                 continue
             run.bound = float(top)
@@ -761,7 +776,8 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
             which = ", ".join(k for k, v in run.bounds.items() if math.isinf(v))
             run.notes.append(f"a lower bound proves that no plan exists ({which})")
             return result("infeasible")
-        budget = min(0.5, 0.02 * time_limit)
+        # the greedy's restarts are not needed where the containers' height-map searches give plans
+        budget = 0.0 if _parts_searched(p) else min(0.5, 0.02 * time_limit)
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
         run.report("incumbent")
         if export_model:
