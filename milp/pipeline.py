@@ -199,9 +199,11 @@ TOP_DOWN_GAP = 3
 #: Share of the time limit the slow lower bounds (bar, contiguous) may use.
 BOUNDS_SHARE = 0.2
 #: The same when every box is bound to one container: the containers' parts (`milp.split`) then
-#: prove more per second than the whole-instance bounds (measured on the rules family, 2D n = 10-40:
-#: with the top-down relaxation search the slow bounds added nothing there and cost up to 0.5 s).
-SPLIT_BOUNDS_SHARE = 0.005
+#: prove more per second than the whole-instance bounds (measured on the rules family, 2D n = 30);
+#: and when every part has the height-map searches (rules family, 2D n = 10-40: with the top-down
+#: relaxation search the slow bounds added nothing there and cost up to 0.5 s).
+SPLIT_BOUNDS_SHARE = 0.05
+SEARCHED_BOUNDS_SHARE = 0.005
 
 
 def _safe_cap(p: Problem) -> float:
@@ -221,7 +223,8 @@ def _lower_bounds(run: _Run) -> None:
     if best is None:
         return
     try:
-        share = SPLIT_BOUNDS_SHARE if split.applies(run.problem) else BOUNDS_SHARE
+        share = (SEARCHED_BOUNDS_SHARE if _parts_searched(run.problem)
+                 else SPLIT_BOUNDS_SHARE if split.applies(run.problem) else BOUNDS_SHARE)
         value, named = best(run.instance, share * run.time_limit)
     except Exception as exc:  # a failing bound must not sink the solve; say so in the notes
         run.notes.append(f"lower bounds unavailable ({type(exc).__name__}: {exc}); using the model's own")
