@@ -133,7 +133,8 @@ def refute(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
     is turned back and replayed with each box dropped onto the highest top under it (`_drop`):
     status "plan" when that meets the support rule too (a plan of `p`), else "relaxed".
 
-    `p` must satisfy `refutable`. Proved correct against the exhaustive oracle in the tests.
+    `p` must satisfy `refutable`. `tests/test_milp_heightmap.py` holds it to the exhaustive oracle and
+    to CP-SAT (on the support-free instances, where the relaxation is exact).
     """
     return _walk(dataclasses.replace(p, before={(i, j) for j, i in p.before}), height, deadline, max_states,
                  relaxed=True)
