@@ -136,16 +136,19 @@ def refute(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
     `p` must satisfy `refutable`. `tests/test_milp_heightmap.py` holds it to the exhaustive oracle and
     to CP-SAT (on the support-free instances, where the relaxation is exact).
     """
-    return _walk(dataclasses.replace(p, before={(i, j) for j, i in p.before}), height, deadline, max_states,
-                 relaxed=True)
+    return _walk(_reversed(p), height, deadline, max_states, relaxed=True)
 
 
 def hunt(p: Problem, height: int, deadline: float, max_states: int = 2_000_000) -> Found:
     """A plan of `p` within `height` from the top-down search of `refute`, its leaves replayed and kept
     only when they meet the support rule: "plan" or "unknown" (its tables merge states that differ in
     support, so an empty search proves nothing)."""
-    return _walk(dataclasses.replace(p, before={(i, j) for j, i in p.before}), height, deadline, max_states,
-                 relaxed=True, hunt=True)
+    return _walk(_reversed(p), height, deadline, max_states, relaxed=True, hunt=True)
+
+
+def _reversed(p: Problem) -> Problem:
+    """`p` with every source order turned round: the sequence built from its end (see `refute`)."""
+    return dataclasses.replace(p, before={(i, j) for j, i in p.before})
 
 
 def refutable(p: Problem) -> bool:

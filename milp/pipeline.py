@@ -68,6 +68,7 @@ class _Run:
     threads: int = 1
     seed: int = 0
     log: bool = False
+    searched: bool = False  # every container part has the height-map searches (`_parts_searched`)
 
     def report(self, stage: str) -> None:
         """Tell the caller's progress callback where the solve stands (incumbent, bound, gap, elapsed)."""
@@ -223,7 +224,7 @@ def _lower_bounds(run: _Run) -> None:
     if best is None:
         return
     try:
-        share = (SEARCHED_BOUNDS_SHARE if _parts_searched(run.problem)
+        share = (SEARCHED_BOUNDS_SHARE if run.searched
                  else SPLIT_BOUNDS_SHARE if split.applies(run.problem) else BOUNDS_SHARE)
         value, named = best(run.instance, share * run.time_limit)
     except Exception as exc:  # a failing bound must not sink the solve; say so in the notes
@@ -502,9 +503,9 @@ def _plan_height(q: Problem, plan: Plan) -> int:
 def _plan_within(q: Problem, height: int, deadline: float) -> Optional[Plan]:
     """A plan of one part within `height` from the height-map searches (top down, then forward), or None."""
     half = time.perf_counter() + 0.5 * max(deadline - time.perf_counter(), 0.0)
-    for search, until in ((heightmap.hunt, half), (heightmap.search, deadline)):
-        applies = heightmap.applies(q) if search is heightmap.search else heightmap.refutable(q)
-        if applies:
+    for applies, search, until in ((heightmap.refutable, heightmap.hunt, half),
+                                   (heightmap.applies, heightmap.search, deadline)):
+        if applies(q):
             got = search(q, height, deadline=until)
             if got.status == "plan":
                 return got.plan
@@ -753,7 +754,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
     graph = precedence_graph(instance)
     p = prepare(instance, graph)
     run = _Run(instance, p, graph, t0, float(time_limit), progress=progress, backend=backend, threads=threads,
-               seed=seed, log=log)
+               seed=seed, log=log, searched=_parts_searched(p))
     info = lambda: SolverInfo(backend=backend, version=backends.backend_version(backend), time_limit_s=float(time_limit),
                               seed=seed, time_s=round(run.milp_seconds, 3), nodes=run.nodes, threads=threads)
     seconds = lambda: round(time.perf_counter() - t0, 3)
@@ -780,7 +781,7 @@ def solve(instance: Instance, *, time_limit: float = 60.0, backend: str = "highs
             run.notes.append(f"a lower bound proves that no plan exists ({which})")
             return result("infeasible")
         # the greedy's restarts are not needed where the containers' height-map searches give plans
-        budget = 0.0 if _parts_searched(p) else min(0.5, 0.02 * time_limit)
+        budget = 0.0 if run.searched else min(0.5, 0.02 * time_limit)
         run.best = best_incumbent(instance, graph, budget_s=budget, seed=seed, lower=run.bound)
         run.report("incumbent")
         if export_model:
