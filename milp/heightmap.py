@@ -38,7 +38,9 @@ import math
 import sys
 import time
 from dataclasses import dataclass
+from functools import lru_cache
 from itertools import product
+from operator import itemgetter
 from typing import Optional
 
 import numpy as np
@@ -81,27 +83,70 @@ class _Place:
     corners: tuple[int, ...]  # the columns under the base's corners
 
 
-def _places(p: Problem, size: tuple[int, ...]) -> list[list[_Place]]:
-    """Every move of every box into a container of horizontal `size` (columns numbered row-major)."""
+@dataclass(frozen=True)
+class _Footprint:
+    """A horizontal extent in a container: every cell where it fits (row-major order), and per cell
+    the columns it covers, its centre columns and its corner columns."""
+
+    extent: tuple[int, ...]
+    at: tuple[tuple[int, ...], ...]
+    cells: tuple[tuple[int, ...], ...]
+    centre: tuple[tuple[int, ...], ...]
+    corners: tuple[tuple[int, ...], ...]
+
+
+@lru_cache(maxsize=4096)
+def _footprint(size: tuple[int, ...], e: tuple[int, ...]) -> _Footprint:
+    """The cells of extent `e` in a container of horizontal `size` (columns numbered row-major)."""
+    d = len(size)
+
+    def col(c: tuple[int, ...]) -> int:
+        return c[0] if d == 1 else c[0] * size[1] + c[1]
+
+    ats, cells, centres, corners = [], [], [], []
+    for at in product(*(range(size[a] - e[a] + 1) for a in range(d))):
+        ats.append(tuple(at))
+        cells.append(tuple(col(c) for c in product(*(range(at[a], at[a] + e[a]) for a in range(d)))))
+        # the centre point at + e/2: on a cell boundary when e is even, inside a cell when odd
+        mid = [(at[a] + e[a] // 2 - 1, at[a] + e[a] // 2) if e[a] % 2 == 0 else (at[a] + e[a] // 2,)
+               for a in range(d)]
+        centres.append(tuple(sorted({col(c) for c in product(*mid)})))
+        ends = [(at[a], at[a] + e[a] - 1) for a in range(d)]
+        corners.append(tuple(sorted({col(c) for c in product(*ends)})))
+    return _Footprint(e, tuple(ats), tuple(cells), tuple(centres), tuple(corners))
+
+
+def _rests(size: tuple[int, ...], extent: tuple[int, ...], hm, rows: dict) -> list[int]:
+    """For each cell of `extent` (row-major), the highest top under it: where a box lowered there rests.
+
+    `rows` caches, per depth of footprint, the highest top along each row (3D containers)."""
+    if len(size) == 1:
+        w = extent[0]
+        return [max(hm[x:x + w]) for x in range(size[0] - w + 1)]
+    a, b = extent
+    line = rows.get(b)
+    if line is None:
+        depth = size[1]
+        line = rows[b] = [[max(hm[r:r + b]) for r in range(x * depth, x * depth + depth - b + 1)]
+                          for x in range(size[0])]
+    if a == 1:
+        return [v for row in line for v in row]
+    return [v for x in range(size[0] - a + 1) for v in map(max, *line[x:x + a])]
+
+
+def _places(p: Problem, size: tuple[int, ...]) -> list[list[tuple[str, _Footprint, list[_Place]]]]:
+    """Per box, per fitting orientation: its footprint and its moves in the footprint's cell order."""
     d = len(size)
     out = []
     for i in range(p.n):
         mine = []
         for o, ext in p.ext[i].items():
-            e = [int(v) for v in ext]
+            e = tuple(int(v) for v in ext)
             if any(e[a] > size[a] for a in range(d)):
                 continue
-            for at in product(*(range(size[a] - e[a] + 1) for a in range(d))):
-                def col(c: tuple[int, ...]) -> int:
-                    return c[0] if d == 1 else c[0] * size[1] + c[1]
-                cells = tuple(col(c) for c in product(*(range(at[a], at[a] + e[a]) for a in range(d))))
-                # the centre point at + e/2: on a cell boundary when e is even, inside a cell when odd
-                mid = [(at[a] + e[a] // 2 - 1, at[a] + e[a] // 2) if e[a] % 2 == 0 else (at[a] + e[a] // 2,)
-                       for a in range(d)]
-                centre = tuple(sorted({col(c) for c in product(*mid)}))
-                ends = [(at[a], at[a] + e[a] - 1) for a in range(d)]
-                corners = tuple(sorted({col(c) for c in product(*ends)}))
-                mine.append(_Place(i, o, tuple(at), e[-1], cells, centre, corners))
+            fp = _footprint(size, e[:d])
+            mine.append((o, fp, [_Place(i, o, at, e[-1], c, m, k)
+                                 for at, c, m, k in zip(fp.at, fp.cells, fp.centre, fp.corners)]))
         out.append(mine)
     return out
 
@@ -180,7 +225,7 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
     twin_of = _twins(p, preds, grip_masks)
     under = _must_lie_below(p, size)
     topo = _topological(p)
-    mirrors = _mirrors(size)
+    images_of = [tuple if ncols == 1 else itemgetter(*m) for m in _mirrors(size)]  # a map -> its mirror images
     failed: set = set()
     lower: dict = {}  # relaxation: gone -> [array of failed canonical maps, rows used]
     counter = [0]
@@ -202,31 +247,51 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
     def moves(gone: int, hm: tuple) -> Optional[list]:
         """The moves allowed now, or None when a cut shows the state cannot be completed."""
         out = []
-        low = [top] * ncols  # the lowest level at which any remaining box can still cover each column
         left = 0
         lowest_top = [0] * n  # the lowest top each remaining box can have from here
         lowest_rest = [0] * n
+        rests: dict = {}  # footprint extent -> (where a box of that footprint rests per cell, the least)
+        rows: dict = {}
+        shortest: dict = {}  # footprint extent -> (footprint, least height of a remaining box on it)
         for i in range(n):
             if gone >> i & 1:
                 continue
             left += volume[i]
-            can_reach = False
-            lowest_top[i] = lowest_rest[i] = top + 1
+            least_top = least_rest = top + 1
             ready = preds[i] & ~gone == 0 and (twin_of[i] is None or gone >> twin_of[i] & 1)
-            for pl in places[i]:
-                rest = max(hm[c] for c in pl.cells)
-                if rest + pl.height > top:
+            for o, fp, pls in places[i]:
+                got = rests.get(fp.extent)
+                if got is None:
+                    r = _rests(size, fp.extent, hm, rows)
+                    got = rests[fp.extent] = (r, min(r))
+                r, lowest = got
+                h = pls[0].height
+                if lowest + h > top:
                     continue
-                can_reach = True
-                lowest_top[i] = min(lowest_top[i], rest + pl.height)
-                lowest_rest[i] = min(lowest_rest[i], rest)
-                for c in pl.cells:
-                    if rest < low[c]:
-                        low[c] = rest
-                if ready and _tip_free(grip_masks[i], pl.orientation, gone, relaxed) and supported(pl, hm, rest):
-                    out.append((rest + pl.height, rest, pl))
-            if not can_reach:
+                if lowest + h < least_top:
+                    least_top = lowest + h
+                if lowest < least_rest:
+                    least_rest = lowest
+                if h < shortest.get(fp.extent, (None, top + 1))[1]:
+                    shortest[fp.extent] = (fp, h)
+                if ready and _tip_free(grip_masks[i], o, gone, relaxed):
+                    limit = top - h
+                    if relaxed:
+                        out.extend((rest + h, rest, pl) for rest, pl in zip(r, pls) if rest <= limit)
+                    else:
+                        out.extend((rest + h, rest, pl) for rest, pl in zip(r, pls)
+                                   if rest <= limit and supported(pl, hm, rest))
+            if least_top > top:
                 return None  # this box can no longer go anywhere below the limit
+            lowest_top[i], lowest_rest[i] = least_top, least_rest
+        low = [top] * ncols  # the lowest level at which any remaining box can still cover each column
+        for extent, (fp, h) in shortest.items():
+            limit = top - h
+            for rest, cells in zip(rests[extent][0], fp.cells):
+                if rest <= limit:
+                    for c in cells:
+                        if rest < low[c]:
+                            low[c] = rest
         free = sum(top - v for v in low)
         if free < left:
             return None
@@ -249,7 +314,7 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
     def walk(gone: int, hm: tuple) -> bool:
         if gone == (1 << n) - 1:
             return not hunt or _drop(p, top, [pl for pl, _ in reversed(path)], real_support, 0).status == "plan"
-        key = (gone, min(tuple(hm[c] for c in m) for m in mirrors))
+        key = (gone, min(image(hm) for image in images_of))
         if key in failed:
             return False
         counter[0] += 1
@@ -261,7 +326,7 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
             hm = list(hm)
             options = moves(gone, hm)
             if options is not None:
-                raw, images = key, [tuple(hm[c] for c in m) for m in mirrors]
+                raw, images = key, [image(hm) for image in images_of]
                 key = (gone, min(images))
                 if key in failed or dominated(gone, images):
                     failed.add(raw)
