@@ -196,7 +196,7 @@ def _grid_widths(widths: list[float], capacity: float, spread: float) -> tuple[l
 
 def bar_bound(instance: Instance, view: Optional[View] = None, objective: Optional[str] = None,
               time_limit: float = TIME_LIMIT) -> Optional[tuple[float, bool]]:
-    """(bound, converged) of the bar relaxation, or None when it does not apply.
+    """(bound, converged) of the bar relaxation, or None when it does not apply or `time_limit` is 0.
 
     In 3D the cross-section at a level is a 2D packing; patterns are relaxed to sets of boxes
     whose footprint areas fit the base and of which no two must stack (see `_AreaPricer`),
@@ -210,7 +210,7 @@ def bar_bound(instance: Instance, view: Optional[View] = None, objective: Option
     """
     view = view or View(instance)
     objective = objective or instance.objective.minimise
-    if objective not in ("height", "height-sum") or not instance.boxes:
+    if objective not in ("height", "height-sum") or not instance.boxes or time_limit <= 0:
         return None
     if instance.dim == 3 and len(instance.boxes) > MAX_BOXES_3D:
         return None
