@@ -186,8 +186,10 @@ def refute(p: Problem, height: int, deadline: float, max_states: int = 2_000_000
 
 def hunt(p: Problem, height: int, deadline: float, max_states: int = 2_000_000) -> Found:
     """A plan of `p` within `height` from the top-down search of `refute`, its leaves replayed and kept
-    only when they meet the support rule: "plan" or "unknown" (its tables merge states that differ in
-    support, so an empty search proves nothing)."""
+    only when they meet the support rule: "plan", "unknown", or "none" when the search ended without
+    turning a single leaf down (it then walked exactly as `refute` does, whose "none" is a proof).
+    Once a leaf is turned down the tables hold states that failed for support only, which a
+    relaxation state of the same key could not be told from: its empty answer then proves nothing."""
     return _walk(_reversed(p), height, deadline, max_states, relaxed=True, hunt=True)
 
 
@@ -230,6 +232,7 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
     lower: dict = {}  # relaxation: gone -> [array of failed canonical maps, rows used]
     counter = [0]
     stop = [False]
+    rejected = [0]  # hunt: leaves of the relaxation turned down for support
 
     def supported(pl: _Place, hm: tuple, rest: int, real: bool = False) -> bool:
         if rest == 0 or (relaxed and not real):
@@ -313,7 +316,10 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
 
     def walk(gone: int, hm: tuple) -> bool:
         if gone == (1 << n) - 1:
-            return not hunt or _drop(p, top, [pl for pl, _ in reversed(path)], real_support, 0).status == "plan"
+            if not hunt or _drop(p, top, [pl for pl, _ in reversed(path)], real_support, 0).status == "plan":
+                return True
+            rejected[0] += 1
+            return False
         key = (gone, min(image(hm) for image in images_of))
         if key in failed:
             return False
@@ -373,8 +379,8 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
         sys.setrecursionlimit(old)
     if ok and relaxed:
         return _drop(p, top, [pl for pl, _ in reversed(path)], real_support, counter[0])
-    if hunt:
-        return Found("unknown", None, counter[0])
+    if hunt:  # no leaf turned down: the walk was refute's own, and its "none" holds
+        return Found("none" if not stop[0] and rejected[0] == 0 else "unknown", None, counter[0])
     if ok:
         moves_ = tuple(Move(p.ids[pl.box], (slot.type_id, slot.index), pl.orientation,
                             tuple(float(a) for a in pl.at) + (float(rest),), grip_needed(pl.orientation))
