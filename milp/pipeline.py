@@ -623,27 +623,31 @@ def _part_step(run: _Run, piece: split.Part, target: float, seconds: Optional[fl
     it the solve takes the usual share and, with no answer, the rest of the time.
 
     The support-free relaxation searched top down (`heightmap.refute`) goes first: it proves most
-    "no plan" answers in milliseconds, and its plan counts when it meets support. Then the
-    exhaustive height-map search (`milp.heightmap.search`) for a short while, which closes small
-    parts outright, and where the relaxation packs a hunt among its plans for one that meets
-    support (`heightmap.hunt`); the MILP answers the rest.
+    "no plan" answers in milliseconds, and its plan counts when it meets support. Where the
+    relaxation packs, a short hunt among its plans for one that meets support (`heightmap.hunt`);
+    then the exhaustive height-map search (`milp.heightmap.search`) for a short while, which closes
+    small parts outright; then the hunt again, longer, if the short one was cut off; the MILP
+    answers the rest.
     """
     start = time.perf_counter()
     q = piece.problem
     target = min(target, _part_cap(q))
     what = f"the boxes of container {q.instance.name.rsplit(' / ', 1)[-1]} alone"
     budget = max(seconds if seconds is not None else run.left(), 0.0)
-    relaxed = False
+    hunting = False  # the relaxation packs: look among its plans for one that meets support
     if heightmap.refutable(q):
         t0 = time.perf_counter()
         found = heightmap.refute(q, int(target), deadline=t0 + REFUTE_SHARE * budget)
-        if found.status == "plan":
-            return found.plan
         if found.status == "none":
             return _searched(f"{what} cannot be packed to height {target:g}",
                              f"exhaustive search of the support-free relaxation from the top down ({found.states} "
                              "states, milp.heightmap.refute)", t0)
-        relaxed = found.status == "relaxed"
+        if found.status == "relaxed":  # a short hunt first: where the relaxation packs, plans are often near
+            until = time.perf_counter() + min(HEIGHTMAP_SECONDS, REFUTE_SHARE * budget)
+            found = heightmap.hunt(q, int(target), deadline=until)
+            hunting = time.perf_counter() >= until  # cut off, not done: worth a longer try below
+        if found.status == "plan":
+            return found.plan
     if heightmap.applies(q):
         t0 = time.perf_counter()
         found = heightmap.search(q, int(target), deadline=t0 + min(HEIGHTMAP_SECONDS, 0.2 * budget))
@@ -653,7 +657,7 @@ def _part_step(run: _Run, piece: split.Part, target: float, seconds: Optional[fl
             return _searched(f"{what} cannot be packed to height {target:g}",
                              f"exhaustive search over loading sequences on a height map ({found.states} states, "
                              "milp.heightmap)", t0)
-    if relaxed:  # the relaxation packs: look among its plans for one that meets support
+    if hunting:
         left = max(budget - (time.perf_counter() - start), 0.0)
         found = heightmap.hunt(q, int(target), deadline=time.perf_counter() + REFUTE_SHARE * left)
         if found.status == "plan":
