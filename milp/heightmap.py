@@ -365,7 +365,7 @@ def _walk(p: Problem, height: int, deadline: float, max_states: int, *, relaxed:
         if table is None:
             return False
         rows = table[0][:table[1]]
-        return any(bool((rows <= np.asarray(im)).all(axis=1).any()) for im in images)
+        return bool((rows[None, :, :] <= np.asarray(images)[:, None, :]).all(axis=2).any())
 
     def remember(gone: int, hm: tuple) -> None:
         table = lower.get(gone)
