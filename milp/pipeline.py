@@ -8,10 +8,11 @@ import tempfile
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Callable, Optional
+from typing import Callable, Optional, Union
 
 import pulp
 
+import bounds
 from instances.checker import check_plan
 from instances.errors import InputError
 from instances.io import file_mode, instance_digest
@@ -219,19 +220,11 @@ def _safe_cap(p: Problem) -> float:
 
 
 def _lower_bounds(run: _Run) -> None:
-    """Lower bounds from `bounds` (the bounds helper's module) when available; 0 otherwise."""
-    try:
-        import bounds
-
-        best = getattr(bounds, "best", None)
-    except ImportError:  # pragma: no cover
-        best = None
-    if best is None:
-        return
+    """The largest lower bound of the `bounds` package, within its share of the time, as a proof step."""
     try:
         share = (SEARCHED_BOUNDS_SHARE if run.searched
                  else SPLIT_BOUNDS_SHARE if split.applies(run.problem) else BOUNDS_SHARE)
-        value, named = best(run.instance, share * run.time_limit)
+        value, named = bounds.best(run.instance, share * run.time_limit)
     except Exception as exc:  # a failing bound must not sink the solve; say so in the notes
         run.notes.append(f"lower bounds unavailable ({type(exc).__name__}: {exc}); using the model's own")
         return
@@ -483,31 +476,38 @@ def _unlocked(run: _Run, pieces: list, plans: dict[int, Plan]) -> Optional[Plan]
     end = time.perf_counter() + (CLOSING_SHARE if closing else UNLOCK_SHARE) * max(run.left(), 0.0)
     limit = lambda pc: top if p.instance.objective.minimise == "height" else heights[pc.slot]
     step = UNLOCK_SECONDS
-    while time.perf_counter() < end and not run.interrupted:
-        for first in range(len(pieces)):  # each part's plan in turn is the one kept, in rounds of growing slices
+    failed: set[int] = set()  # kept plans whose re-planning failed for good: a longer slice gives the same answer
+    while time.perf_counter() < end and not run.interrupted and len(failed) < len(pieces):
+        for first in (k for k in range(len(pieces)) if k not in failed):  # each kept in turn, slices growing
             order = pieces[first:] + pieces[:first]
-            until = min(end, time.perf_counter() + step)
-            got = _replanned(p, order, plans[order[0].slot], limit, until)
-            if got is not None:
+            got = _replanned(p, order, plans[order[0].slot], limit, min(end, time.perf_counter() + step))
+            if isinstance(got, Plan):
                 return got
+            if got == "none":
+                failed.add(first)
         step *= 2
     return None
 
 
-def _replanned(p: Problem, order: list, kept: Plan, limit: Callable, until: float) -> Optional[Plan]:
+def _replanned(p: Problem, order: list, kept: Plan, limit: Callable, until: float) -> Union[Plan, str]:
     """The merged plan of `_unlocked` with the first part's plan kept and the others planned again in
-    order, each on the orders fixed before it; None when one finds no plan within `limit(part)` by `until`."""
+    order, each on the orders fixed before it. Else "none" when this order failed on an exact answer
+    (orders that admit no sequence, a part with no plan within `limit(part)`, plans that do not
+    merge), which a longer slice would change only by giving an earlier part another plan, or
+    "unknown" when `until` came first. Plan searches only: nothing here is claimed."""
     fixed = {order[0].slot: kept}
     q = split.following(p, order[0], kept)
     for pc in order[1:]:
-        if q is None or time.perf_counter() >= until:
-            return None
+        if q is None:
+            return "none"
+        if time.perf_counter() >= until:
+            return "unknown"
         got = _plan_within(split.part(q, pc.slot, frozenset(pc.boxes)).problem, limit(pc), until)
         if got.status != "plan":
-            return None
+            return got.status
         fixed[pc.slot] = got.plan
         q = split.following(q, pc, got.plan)
-    return None if q is None else split.merge(p, [(pc, fixed[pc.slot]) for pc in order])
+    return "none" if q is None else (split.merge(p, [(pc, fixed[pc.slot]) for pc in order]) or "none")
 
 
 def _plan_height(q: Problem, plan: Plan) -> int:
@@ -516,9 +516,16 @@ def _plan_height(q: Problem, plan: Plan) -> int:
 
 
 def _plan_within(q: Problem, height: int, deadline: float, hunt_first: bool = True) -> heightmap.Found:
-    """One part at one height by the height-map plan searches: the top-down hunt and the forward
-    search in turn (or the other way round), the first with half the time. Status "plan", "none"
-    (both searches' "none" are proofs for the part) or "unknown"."""
+    """One part at one height by the height-map searches: the top-down search of the relaxation
+    (`heightmap.refute`) with half the time, then the top-down hunt and the forward search in turn
+    (or the other way round), the first with half the rest. Status "plan", "none" (each search's
+    "none" is a proof for the part) or "unknown". The relaxation goes first because it answers
+    "none" in milliseconds where the plan searches only run out of time (rules family, 2D n = 40:
+    sum of times over the 35 instances 6.4 s -> 5.3 s)."""
+    if heightmap.refutable(q):
+        found = heightmap.refute(q, height, deadline=time.perf_counter() + 0.5 * max(deadline - time.perf_counter(), 0.0))
+        if found.status in ("plan", "none"):
+            return found
     half = time.perf_counter() + 0.5 * max(deadline - time.perf_counter(), 0.0)
     searches = [(heightmap.refutable, heightmap.hunt), (heightmap.applies, heightmap.search)]
     got = heightmap.Found("unknown")
@@ -574,7 +581,7 @@ def _part_plans(run: _Run, pieces: list, least: dict) -> dict[int, tuple[int, Pl
     """Each part's lowest plan that a short descent of height-map searches finds: slot -> (height, plan).
 
     A first search at the part's cap, one at the floor, then one below each plan found, each
-    within the step budget (forward first, `_plan_within`), all within PLAN_SHARE of the time left.
+    within the step budget (`_plan_within`: the relaxation, then forward first), all within PLAN_SHARE of the time left.
     The floor is the part's least height; for objective `height` also the bound and the height of
     any part planned before it (lower gains nothing). The parts' plans are merged and offered at
     once, so the incumbent is good before the proofs from below start. Plans only: a "none" here

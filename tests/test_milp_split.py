@@ -123,6 +123,32 @@ def test_unlocked_merges_parts_whose_own_plans_deadlock():
     assert report.objective == 67
 
 
+def test_replanned_answers_plan_none_or_unknown():
+    """The same deadlock: each kept plan's re-planning answers a checked plan within 67, or "none"
+    (an exact failure, never retried), and "unknown" only when its deadline has passed."""
+    import time
+
+    from benchmarks.speed import make_instance
+    from instances.precedence import precedence_graph
+
+    inst = make_instance("rules", 2, 30, 0)
+    p = prepare(inst, precedence_graph(inst))
+    pieces = split.parts(p)
+    plans = {pc.slot: heightmap.hunt(pc.problem, 67, deadline=time.perf_counter() + 30).plan for pc in pieces}
+    answers = []
+    for first in range(len(pieces)):
+        order = pieces[first:] + pieces[:first]
+        got = pipeline._replanned(p, order, plans[order[0].slot], lambda pc: 67, time.perf_counter() + 60)
+        answers.append(got)
+        if isinstance(got, Plan):
+            report = check_plan(inst, got)
+            assert report.feasible and report.objective <= 67, [str(v) for v in report.violations]
+        else:
+            assert got == "none"
+        assert pipeline._replanned(p, order, plans[order[0].slot], lambda pc: 67, time.perf_counter()) in ("unknown", "none")
+    assert any(isinstance(a, Plan) for a in answers), answers
+
+
 @pytest.mark.parametrize("seed", [4, 6])
 def test_top_down_step_agrees_with_cpsat(seed):
     """Rule-heavy loads with two destinations (the speed benchmark's 2D n = 20 family), larger than
