@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import contextlib
 import dataclasses
+import time
 
 import pytest
 from hypothesis import given
@@ -101,11 +102,9 @@ def test_no_part_search_denies_the_oracle_plan(inst):
             assert heightmap.refute(q, height, deadline=float("inf")).status in ("plan", "relaxed")
 
 
-def test_unlocked_merges_parts_whose_own_plans_deadlock():
-    """Speed family 2D n = 30, seed 0: the parts' top-down plans at height 67 each need the other
-    container to go first (a circle through source orders); re-planned in turn they merge."""
-    import time
-
+def deadlocked():
+    """Speed family 2D n = 30, seed 0, with each part's top-down plan at height 67: (instance,
+    problem, parts, plans)."""
     from benchmarks.speed import make_instance
     from instances.precedence import precedence_graph
 
@@ -113,6 +112,15 @@ def test_unlocked_merges_parts_whose_own_plans_deadlock():
     p = prepare(inst, precedence_graph(inst))
     pieces = split.parts(p)
     plans = {pc.slot: heightmap.hunt(pc.problem, 67, deadline=time.perf_counter() + 30).plan for pc in pieces}
+    return inst, p, pieces, plans
+
+
+def test_unlocked_merges_parts_whose_own_plans_deadlock():
+    """Speed family 2D n = 30, seed 0: the parts' top-down plans at height 67 each need the other
+    container to go first (a circle through source orders); re-planned in turn they merge."""
+    from instances.precedence import precedence_graph
+
+    inst, p, pieces, plans = deadlocked()
     assert all(plan is not None for plan in plans.values())
     assert split.merge(p, [(pc, plans[pc.slot]) for pc in pieces]) is None
     run = pipeline._Run(inst, p, precedence_graph(inst), time.perf_counter(), 60.0)
@@ -126,15 +134,7 @@ def test_unlocked_merges_parts_whose_own_plans_deadlock():
 def test_replanned_answers_plan_none_or_unknown():
     """The same deadlock: each kept plan's re-planning answers a checked plan within 67, or "none"
     (an exact failure, never retried), and "unknown" only when its deadline has passed."""
-    import time
-
-    from benchmarks.speed import make_instance
-    from instances.precedence import precedence_graph
-
-    inst = make_instance("rules", 2, 30, 0)
-    p = prepare(inst, precedence_graph(inst))
-    pieces = split.parts(p)
-    plans = {pc.slot: heightmap.hunt(pc.problem, 67, deadline=time.perf_counter() + 30).plan for pc in pieces}
+    inst, p, pieces, plans = deadlocked()
     answers = []
     for first in range(len(pieces)):
         order = pieces[first:] + pieces[:first]
